@@ -1,0 +1,24 @@
+// Package dataset reads a study's data extract into typed, columnar tables.
+//
+// A Table is a set of named columns of equal length. Each Column is stored by
+// type, never as one string per cell after loading: numbers as float64 with a
+// missing bitmap; categories as int32 codes into a dictionary of levels (in
+// ascending order for an ordinal variable); dates as the half-open interval of
+// days since 1970-01-01 that the value can fall in, with the precision it was
+// written at, so that ISO 8601 partial dates ("2023-05", "2023") keep their
+// meaning (see ParseISO8601 and LessEq). Key columns (subject, visit,
+// sequence) and the site column are named on the table so that every later
+// finding can point to its record.
+//
+// Variable types are inferred by the rules documented on Builder.Column and
+// can be overridden by a variables file (ReadVarsFile) or, for SDTM studies,
+// by Define-XML metadata.
+//
+// Readers: CSV (ReadCSV: delimiter detection, UTF-8 with or without BOM,
+// Windows-1252 and Latin-1 through golang.org/x/text, configurable missing
+// tokens). A folder is read as one study (Open), one table per file.
+//
+// Errors caused by input files are *ParseError values carrying the file and
+// the 1-based line and column (or record, row or byte offset for binary and
+// JSON formats). The package never prints or exits.
+package dataset
