@@ -1,0 +1,16 @@
+// Command crossform finds cross-variable inconsistencies in clinical-trial
+// data extracts and proposes, keeps and reruns edit checks. See README.md.
+package main
+
+import (
+	"context"
+	"os"
+	"os/signal"
+)
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	code := run(ctx, os.Args[1:], os.Stdin, os.Stdout, os.Stderr)
+	stop()
+	os.Exit(code)
+}
