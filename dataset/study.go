@@ -54,8 +54,8 @@ var readers = map[string]func(path string, o Options) ([]*Table, error){
 	},
 }
 
-// Open reads a study: every data file in the folder path (by extension), or
-// the single file path.
+// Open reads a study: every data file in the folder path (by extension; names
+// starting with "_" or "." are skipped as side files), or the single file path.
 func Open(path string, o Options) (*Study, error) {
 	fi, err := os.Stat(path)
 	if err != nil {
@@ -69,8 +69,8 @@ func Open(path string, o Options) (*Study, error) {
 			return nil, err
 		}
 		for _, e := range ents {
-			if e.IsDir() {
-				continue
+			if e.IsDir() || strings.HasPrefix(e.Name(), "_") || strings.HasPrefix(e.Name(), ".") {
+				continue // not data: hidden files and side files such as a ground truth
 			}
 			if _, ok := readers[strings.ToLower(filepath.Ext(e.Name()))]; ok {
 				files = append(files, filepath.Join(path, e.Name()))
