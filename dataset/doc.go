@@ -21,4 +21,15 @@
 // Errors caused by input files are *ParseError values carrying the file and
 // the 1-based line and column (or record, row or byte offset for binary and
 // JSON formats). The package never prints or exits.
+//
+// Shaping: Study.Shape turns an SDTM study into one analysis table at a Level
+// (ParseLevel reads "subject", "visit", "record:AE", "table:NAME"). At visit
+// level findings domains are pivoted to one variable per test, "VS.SYSBP",
+// keyed by USUBJID and VISITNUM, with qualifiers that vary within a cell
+// added to the key ("VS.SYSBP.SITTING"); at subject level DM is extended with
+// baseline values ("VS.SYSBP.BL") and per-subject summaries of events and
+// interventions ("AE.N", "AE.MAXSEV"); at record level one domain keeps its
+// rows, with DM attributes joined as "DM.SEX". SITEID always comes from DM
+// (SDTM.md §1). A ShapeReport counts every row dropped, every collision (per
+// site), every mixed-unit test and every qualifier added; nothing is silent.
 package dataset
