@@ -30,6 +30,10 @@ func (s *Study) Table(name string) *Table {
 // Options control Open.
 type Options struct {
 	CSV CSVOptions
+	// Define is a Define-XML file whose variable definitions override type
+	// inference (see Define.VarSpecs); "" uses define.xml in the study folder
+	// when there is one.
+	Define string
 }
 
 // readers maps a file extension to its reader. Formats register here.
@@ -86,8 +90,14 @@ func Open(path string, o Options) (*Study, error) {
 		files = []string{path}
 	}
 	sort.Strings(files)
+	def, err := studyDefine(path, fi.IsDir(), o)
+	if err != nil {
+		return nil, err
+	}
+	s.Warnings = append(s.Warnings, def.warnings()...)
 	for _, f := range files {
-		ts, err := readers[strings.ToLower(filepath.Ext(f))](f, o)
+		ts, warns, err := readStudyFile(f, o, def)
+		s.Warnings = append(s.Warnings, warns...)
 		if err != nil {
 			return nil, err
 		}
