@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -47,8 +48,13 @@ func ReadCSVFile(path string, o CSVOptions) (*Table, error) {
 }
 
 // ReadCSV reads one CSV table from r; name is used in errors and as the
-// table's source. The first record is the header. Errors are *ParseError
-// values with the line (1-based) and byte column of the problem.
+// table's source. The first record is the header; column names and values are
+// trimmed of surrounding spaces. Blank lines are skipped (recorded in
+// Table.Skipped when they hold only spaces). Errors caused by the input are
+// *ParseError values with the 1-based line and byte column: of the offending
+// byte for quoting errors, of the field's first byte for a bad field, 0 for a
+// whole record (the columns count bytes after decoding from windows-1252 or
+// latin1). A bad option (an unknown encoding) is a plain error naming the file.
 func ReadCSV(name string, r io.Reader, o CSVOptions) (*Table, error) {
 	perr := func(line, col int, err error) error {
 		return &ParseError{File: name, Line: line, Column: col, Err: err}
@@ -64,13 +70,13 @@ func ReadCSV(name string, r io.Reader, o CSVOptions) (*Table, error) {
 	for _, m := range missing {
 		isMissing[strings.TrimSpace(m)] = true
 	}
-	utf8In := true
+	enc := ""
 	switch strings.ToLower(o.Encoding) {
 	case "", "utf-8", "utf8":
 	case "windows-1252", "cp1252":
-		r, utf8In = charmap.Windows1252.NewDecoder().Reader(r), false
+		r, enc = charmap.Windows1252.NewDecoder().Reader(r), "windows-1252"
 	case "latin1", "iso-8859-1":
-		r, utf8In = charmap.ISO8859_1.NewDecoder().Reader(r), false
+		r, enc = charmap.ISO8859_1.NewDecoder().Reader(r), "latin1"
 	default:
 		return nil, fmt.Errorf("%s: unknown encoding %q (want utf-8, windows-1252 or latin1)", name, o.Encoding)
 	}
@@ -79,11 +85,15 @@ func ReadCSV(name string, r io.Reader, o CSVOptions) (*Table, error) {
 	if err != nil && err != io.EOF && err != bufio.ErrBufferFull {
 		return nil, fmt.Errorf("reading %s: %w", name, err)
 	}
+	whole := err == io.EOF // head holds the whole input
 	if bytes.HasPrefix(head, []byte("\xEF\xBB\xBF")) {
 		br.Discard(3)
 		head = head[3:]
 	}
-	if len(bytes.TrimSpace(head)) == 0 {
+	if enc == "" && (bytes.HasPrefix(head, []byte("\xFF\xFE")) || bytes.HasPrefix(head, []byte("\xFE\xFF"))) {
+		return nil, perr(1, 1, errUTF16)
+	}
+	if whole && len(bytes.TrimSpace(head)) == 0 {
 		return nil, perr(1, 0, ErrEmpty)
 	}
 	delim := o.Delimiter
@@ -102,20 +112,24 @@ func ReadCSV(name string, r io.Reader, o CSVOptions) (*Table, error) {
 	seen := map[string]int{}
 	for i, h := range header {
 		_, c := cr.FieldPos(i)
-		h = strings.TrimSpace(h)
-		if err := checkText(h, utf8In); err != nil {
+		if len(h) > o.MaxFieldBytes {
+			return nil, perr(1, c, fmt.Errorf("%w: %d bytes in the name of column %d (limit %d)", ErrFieldTooLong, len(h), i+1, o.MaxFieldBytes))
+		}
+		if err := checkText(h, enc); err != nil {
 			return nil, perr(1, c, err)
 		}
+		h = strings.TrimSpace(h)
 		if h == "" {
 			return nil, perr(1, c, fmt.Errorf("column %d has no name", i+1))
 		}
 		if j, dup := seen[h]; dup {
 			return nil, perr(1, c, fmt.Errorf("%w %q (also column %d)", ErrDuplicateColumn, h, j+1))
 		}
-		seen[h] = i + 1
+		seen[h] = i
 		cols[i] = NewBuilder(h)
 	}
 	var skipped []Skip
+	var lines []int32 // line of each row, for errors found when typing
 	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
@@ -142,29 +156,35 @@ func ReadCSV(name string, r io.Reader, o CSVOptions) (*Table, error) {
 				l, c := cr.FieldPos(i)
 				return nil, perr(l, c, fmt.Errorf("%w: %d bytes in column %q (limit %d)", ErrFieldTooLong, len(v), cols[i].Name, o.MaxFieldBytes))
 			}
-			if err := checkText(v, utf8In); err != nil {
+			if err := checkText(v, enc); err != nil {
 				l, c := cr.FieldPos(i)
-				return nil, perr(l, c+badOffset(v), err)
+				return nil, perr(l, c, fmt.Errorf("column %q: %w", cols[i].Name, err))
 			}
 			t := strings.TrimSpace(v)
 			cols[i].Append(t, isMissing[t])
 		}
+		lines = append(lines, int32(min(line, math.MaxInt32)))
 	}
-	n := 0
-	if len(cols) > 0 {
-		n = cols[0].Len()
-	}
+	n := len(lines)
 	if n == 0 {
+		if len(skipped) > 0 {
+			return nil, perr(skipped[0].Line, 0, fmt.Errorf("no data rows: all %d rows skipped (%s)", len(skipped), skipped[0].Reason))
+		}
 		return nil, perr(2, 0, ErrNoRows)
 	}
 	t := NewTable(tableName(name), n)
 	t.Source = name
 	t.Skipped = skipped
-	for _, b := range cols {
+	for i, b := range cols {
 		c, err := b.Column(o.Infer)
 		if err != nil {
-			return nil, &ParseError{File: name, Var: b.Name, Err: err}
+			var re *rowError
+			if errors.As(err, &re) && re.row >= 0 && re.row < n {
+				return nil, perr(int(lines[re.row]), 0, re.err)
+			}
+			return nil, &ParseError{File: name, Err: err}
 		}
+		cols[i] = nil // let the builder's buffers go
 		c.Prov = Provenance{Domain: t.Name, Source: c.Name, File: name}
 		if err := t.Add(c); err != nil {
 			return nil, &ParseError{File: name, Err: err}
@@ -195,7 +215,13 @@ func (t *Table) SetKeys(keys []string, site string) error {
 	}
 	for _, k := range keys {
 		if t.Col(k) == nil {
-			return fmt.Errorf("key column %q: %w (columns: %s)", k, ErrUnknownVariable, strings.Join(t.Names(), ", "))
+			names := t.Names()
+			more := ""
+			if len(names) > 12 {
+				more = fmt.Sprintf(" and %d more", len(names)-12)
+				names = names[:12]
+			}
+			return fmt.Errorf("key column %q: %w (columns: %s%s)", k, ErrUnknownVariable, strings.Join(names, ", "), more)
 		}
 	}
 	if site == "" && t.Col("SITEID") != nil {
@@ -214,24 +240,29 @@ func tableName(path string) string {
 	return strings.ToUpper(strings.TrimSuffix(b, filepath.Ext(b)))
 }
 
-func checkText(s string, mustBeUTF8 bool) error {
-	if mustBeUTF8 && !utf8.ValidString(s) {
+var (
+	errUTF16     = errors.New("UTF-16 text (save the file as UTF-8)")
+	errNUL       = errors.New("NUL byte in the data (is the file UTF-16 or binary?)")
+	errUndefined = errors.New("byte not defined in windows-1252")
+)
+
+// checkText checks one field: valid UTF-8 when read as UTF-8 (enc ""), no
+// byte order mark, no NUL byte, and no byte that the encoding leaves
+// undefined (decoded to U+FFFD).
+func checkText(s string, enc string) error {
+	if enc == "" && !utf8.ValidString(s) {
 		return ErrBadEncoding
+	}
+	if strings.IndexByte(s, 0) >= 0 {
+		return errNUL
 	}
 	if strings.Contains(s, "\uFEFF") {
 		return ErrBOMInside
 	}
-	return nil
-}
-
-// badOffset returns the byte offset of the first invalid UTF-8 sequence or BOM in s.
-func badOffset(s string) int {
-	for i, r := range s {
-		if r == utf8.RuneError || r == '\uFEFF' {
-			return i
-		}
+	if enc == "windows-1252" && strings.ContainsRune(s, utf8.RuneError) {
+		return errUndefined
 	}
-	return 0
+	return nil
 }
 
 // csvErr turns an encoding/csv error into a ParseError.
@@ -241,6 +272,9 @@ func csvErr(name string, err error) error {
 		cause := ce.Err
 		if errors.Is(cause, csv.ErrQuote) || errors.Is(cause, csv.ErrBareQuote) {
 			cause = fmt.Errorf("%w: %v", ErrBadQuote, ce.Err)
+		}
+		if ce.StartLine > 0 && ce.StartLine != ce.Line {
+			cause = fmt.Errorf("%w (record starts on line %d)", cause, ce.StartLine)
 		}
 		return &ParseError{File: name, Line: ce.Line, Column: ce.Column, Err: cause}
 	}

@@ -16,7 +16,12 @@
 //
 // Readers: CSV (ReadCSV: delimiter detection, UTF-8 with or without BOM,
 // Windows-1252 and Latin-1 through golang.org/x/text, configurable missing
-// tokens). A folder is read as one study (Open), one table per file.
+// tokens); SAS transport v5 (ReadXPT, from the published record layout, IBM
+// hexadecimal floating point converted exactly, special missing values kept);
+// CDISC Dataset-JSON v1.1 (ReadDatasetJSON, also its NDJSON and compressed
+// forms); and Define-XML 2.0/2.1 (ReadDefine), whose variable definitions and
+// ranked codelists override type inference. A folder is read as one study
+// (Open), one table per file, in any mix of the formats.
 //
 // Errors caused by input files are *ParseError values carrying the file and
 // the 1-based line and column (or record, row or byte offset for binary and

@@ -56,27 +56,39 @@ type Date struct {
 // IsZero reports whether d is the zero (missing) Date.
 func (d Date) IsZero() bool { return d.Prec == PrecNone }
 
-// ParseISO8601 parses an SDTM --DTC value (SDTMIG v3.4 §4.4.2): the extended
-// format YYYY-MM-DDThh:mm:ss(.fff), right-truncated to any precision
-// ("2003-12", "2003"), with unknown middle components written as "-"
-// ("2003---15", "2003-12-15T-:15"): only the known leading components are kept,
-// so "2003---15" has year precision. A time-zone designator (Z or ±hh:mm) is
-// accepted and ignored: clock times are kept as recorded at the site. A value
-// "a/b" is an interval whose earliest point is a's and latest b's. A value with
-// an unknown year ("--12-15", "-----T07:15") has no position and parses to the
-// zero Date with a nil error. The empty string is the zero Date. Anything else
-// (basic format "20230510", "2023/05/10", "10MAY2023", "2023-02-30", "UNK")
-// returns ErrNotISODate.
+// ParseISO8601 parses an SDTM --DTC value (SDTMIG v3.4 §4.4; ISO 8601-1:2019
+// §5.2.2 calendar dates, §5.3 time of day, §5.4 date and time, §5.5 time
+// intervals, extended format only): YYYY-MM-DDThh:mm:ss(.fff), right-truncated
+// to any precision ("2003-12", "2003"), with an unknown component written as a
+// single "-" ("2003---15", "2003-12-15T-:15", "--12-15", "-----T07:15"). Only the
+// known leading components are kept, so "2003---15" has year precision and
+// "2003-12-15T-:15" day precision. An unknown component must be followed by a
+// known one: trailing unknowns are written by truncation ("2003---" is
+// invalid). A time needs all three date components written. A time-zone
+// designator (Z, ±hh or ±hh:mm) is checked and ignored: clock times are kept as
+// recorded at the site. A value "a/b" is an interval (an uncertainty window)
+// from a's earliest to b's latest point; it must not end before it starts. A
+// value with an unknown year ("--12-15", "-----T07:15") has no position and
+// parses to the zero Date with a nil error, as does the empty string.
+//
+// Invalid, returning ErrNotISODate: the basic format ("20230510",
+// "T131417"), other separators ("2023/05/10", "2023-05-10 13:14"), month
+// names ("10MAY2023"), impossible dates ("2023-02-30", "2023-02-29",
+// "2023-13-01"), "UNK", durations ("P2Y", "2003-12-01/P10D"), the hour 24
+// ("24:00": ISO 8601:2004 allowed it for the end of a day, the 2019 edition as
+// first published did not (from memory); SDTM data should write 00:00 of the
+// next day, and one clock keeps comparisons simple), the leap second 60, and a
+// comma as the decimal sign (SDTM uses the full stop).
 func ParseISO8601(s string) (Date, error) {
 	if s == "" {
 		return Date{}, nil
 	}
 	if i := strings.IndexByte(s, '/'); i >= 0 {
-		a, err := parseOne(s[:i])
+		a, err := parseOne(s[:i], s)
 		if err != nil {
 			return Date{}, err
 		}
-		b, err := parseOne(s[i+1:])
+		b, err := parseOne(s[i+1:], s)
 		if err != nil {
 			return Date{}, err
 		}
@@ -85,210 +97,207 @@ func ParseISO8601(s string) (Date, error) {
 		}
 		alo, _ := a.span()
 		_, bhi := b.span()
-		if bhi < alo {
-			return Date{}, fmt.Errorf("%w: interval %q ends before it starts", ErrNotISODate, s)
+		if !(bhi > alo) {
+			return Date{}, fmt.Errorf("%w: %q (interval ends before it starts)", ErrNotISODate, s)
 		}
 		a.End = &b
 		return a, nil
 	}
-	return parseOne(s)
+	return parseOne(s, s)
 }
 
-func parseOne(s string) (Date, error) {
+// A component of a date-time as written: absent, unknown ("-") or a number.
+type isoComp struct {
+	present, known bool
+	v              int
+}
+
+// parseOne parses one date-time (no "/"); whole is the full value for errors.
+func parseOne(s, whole string) (Date, error) {
 	bad := func(why string) (Date, error) {
-		if why != "" {
-			return Date{}, fmt.Errorf("%w: %q (%s)", ErrNotISODate, s, why)
-		}
-		return Date{}, fmt.Errorf("%w: %q", ErrNotISODate, s)
+		return Date{}, fmt.Errorf("%w: %q (%s)", ErrNotISODate, whole, why)
 	}
 	if s == "" {
 		return bad("empty part")
 	}
-	// Strip a time-zone designator after the time part.
-	if t := strings.IndexByte(s, 'T'); t >= 0 {
-		tail := s[t+1:]
-		if strings.HasSuffix(tail, "Z") {
-			s = s[:len(s)-1]
-		} else if k := strings.LastIndexAny(tail, "+"); k >= 0 {
-			s = s[:t+1+k]
-		} else if k := strings.LastIndexByte(tail, '-'); k > 0 && len(tail)-k == 6 && tail[k+3] == ':' {
-			s = s[:t+1+k]
-		}
-	}
 	datePart, timePart, hasT := strings.Cut(s, "T")
-	if strings.Contains(timePart, "T") {
-		return bad("two T separators")
+	if hasT {
+		if strings.IndexByte(timePart, 'T') >= 0 {
+			return bad("two T separators")
+		}
+		var ok bool
+		if timePart, ok = stripZone(timePart); !ok {
+			return bad("bad time-zone offset")
+		}
+		if timePart == "" {
+			return bad("no time after T")
+		}
 	}
-	// Date part: YYYY[-MM[-DD]] with "-" for unknown components.
-	var comps [3]string
-	n := 0
+	// comps: year, month, day, hour, minute, second.
+	var comps [6]isoComp
+	rest := datePart
+	// Year: four digits or "-".
 	switch {
-	case len(datePart) == 0:
-		if !hasT {
-			return bad("")
-		}
-	case strings.HasPrefix(datePart, "--"):
-		// Unknown year: no position on the time line.
-		if !validUnknownYear(datePart) {
-			return bad("")
-		}
-		if hasT && !validTime(timePart) {
-			return bad("bad time")
-		}
-		return Date{}, nil
+	case len(rest) >= 4 && isDigits(rest[:4]):
+		comps[0] = isoComp{true, true, atoi(rest[:4])}
+		rest = rest[4:]
+	case strings.HasPrefix(rest, "-"):
+		comps[0] = isoComp{present: true}
+		rest = rest[1:]
 	default:
-		if len(datePart) < 4 {
-			return bad("")
+		return bad("want YYYY-MM-DD")
+	}
+	for k := 1; k <= 2 && rest != ""; k++ {
+		if rest[0] != '-' {
+			return bad("want YYYY-MM-DD")
 		}
-		comps[0] = datePart[:4]
-		rest := datePart[4:]
-		n = 1
-		for len(rest) > 0 && n < 3 {
-			if rest[0] != '-' {
-				return bad("")
-			}
-			rest = rest[1:]
-			if strings.HasPrefix(rest, "-") { // unknown component
-				comps[n] = "-"
-				n++
-				continue
-			}
-			if len(rest) < 2 {
-				return bad("")
-			}
-			comps[n] = rest[:2]
+		rest = rest[1:]
+		switch {
+		case len(rest) >= 2 && isDigits(rest[:2]):
+			comps[k] = isoComp{true, true, atoi(rest[:2])}
 			rest = rest[2:]
-			n++
-		}
-		if rest != "" {
-			return bad("")
-		}
-	}
-	var d Date
-	y, ok := digits(comps[0], 4)
-	if !ok {
-		return bad("")
-	}
-	d.Year, d.Prec = y, PrecYear
-	known := true
-	if n >= 2 {
-		if comps[1] == "-" {
-			known = false
-		} else if m, ok := digits(comps[1], 2); !ok || m < 1 || m > 12 {
-			return bad("month out of range")
-		} else {
-			d.Month, d.Prec = m, PrecMonth
+		case strings.HasPrefix(rest, "-"):
+			comps[k] = isoComp{present: true}
+			rest = rest[1:]
+		default:
+			return bad("want YYYY-MM-DD")
 		}
 	}
-	if n >= 3 {
-		if comps[2] == "-" {
-			known = false
-		} else if dd, ok := digits(comps[2], 2); !ok || dd < 1 || dd > daysIn(d.Year, maxInt(d.Month, 1)) && d.Month != 0 || dd > 31 {
-			return bad("day out of range")
-		} else if known {
-			d.Day, d.Prec = dd, PrecDay
-		}
-	}
-	if n == 3 && comps[1] == "-" && comps[2] == "-" {
-		return bad("")
+	if rest != "" {
+		return bad("want YYYY-MM-DD")
 	}
 	if hasT {
-		if n < 3 {
+		if !comps[2].present {
 			return bad("time without a full date")
 		}
-		if !validTime(timePart) {
-			return bad("bad time")
+		parts := strings.Split(timePart, ":")
+		if len(parts) > 3 {
+			return bad("want hh:mm:ss")
 		}
-		if known && d.Prec == PrecDay {
-			parts := strings.Split(timePart, ":")
-			for i, p := range parts {
-				if p == "-" {
-					break
+		for k, p := range parts {
+			if k == 2 {
+				sec, frac, hasFrac := strings.Cut(p, ".")
+				if hasFrac && (frac == "" || !isDigits(frac) || sec == "-") {
+					return bad("bad fraction of a second")
 				}
-				if i == 2 {
-					sec, frac, _ := strings.Cut(p, ".")
-					v, _ := digits(sec, 2)
-					d.Second, d.Prec = v, PrecSecond
-					if frac != "" {
-						f, _ := strconv.ParseFloat("0."+frac, 64)
-						d.Frac = f
-					}
-					break
-				}
-				v, _ := digits(p, 2)
-				if i == 0 {
-					d.Hour, d.Prec = v, PrecHour
-				} else {
-					d.Minute, d.Prec = v, PrecMinute
-				}
+				p = sec
+			}
+			switch {
+			case len(p) == 2 && isDigits(p):
+				comps[3+k] = isoComp{true, true, atoi(p)}
+			case p == "-":
+				comps[3+k] = isoComp{present: true}
+			default:
+				return bad("want hh:mm:ss")
 			}
 		}
 	}
-	return d, nil
-}
-
-func validUnknownYear(s string) bool {
-	// "--MM-DD", "--MM", "-----", "---DD" style forms.
-	for _, c := range s {
-		if c != '-' && (c < '0' || c > '9') {
-			return false
+	last := 0
+	for k, c := range comps {
+		if c.present {
+			last = k
 		}
 	}
-	return len(s) >= 2 && len(s) <= 7
-}
-
-func validTime(t string) bool {
-	if t == "" {
-		return false
+	if !comps[last].known {
+		return bad("trailing unknown component; truncate instead")
 	}
-	parts := strings.Split(t, ":")
-	if len(parts) > 3 {
-		return false
+	// Ranges. A day is checked against its month and year when they are known
+	// (a leap year allows 29 February; an unknown year allows it too).
+	y, m, d := comps[0], comps[1], comps[2]
+	if m.known && (m.v < 1 || m.v > 12) {
+		return bad("month out of range")
 	}
-	limits := [3]int{23, 59, 59}
-	for i, p := range parts {
-		if p == "-" {
-			continue
+	if d.known {
+		maxDay := 31
+		switch {
+		case m.known && y.known:
+			maxDay = daysIn(y.v, m.v)
+		case m.known:
+			maxDay = daysIn(2000, m.v)
 		}
-		if i == 2 {
-			sec, frac, hasFrac := strings.Cut(p, ".")
-			if hasFrac && (frac == "" || strings.Trim(frac, "0123456789") != "") {
-				return false
+		if d.v < 1 || d.v > maxDay {
+			return bad("day out of range")
+		}
+	}
+	if comps[3].known && comps[3].v > 23 {
+		return bad("hour out of range")
+	}
+	if comps[4].known && comps[4].v > 59 {
+		return bad("minute out of range")
+	}
+	if comps[5].known && comps[5].v > 59 {
+		return bad("second out of range")
+	}
+	// Keep the known leading components.
+	var out Date
+	for k, c := range comps {
+		if !c.known {
+			break
+		}
+		switch k {
+		case 0:
+			out.Year = c.v
+		case 1:
+			out.Month = c.v
+		case 2:
+			out.Day = c.v
+		case 3:
+			out.Hour = c.v
+		case 4:
+			out.Minute = c.v
+		case 5:
+			out.Second = c.v
+			if _, frac, ok := strings.Cut(timePart, "."); ok {
+				out.Frac, _ = strconv.ParseFloat("0."+frac, 64)
 			}
-			p = sec
 		}
-		v, ok := digits(p, 2)
-		if !ok || v > limits[i] {
+		out.Prec = Precision(k + 1)
+	}
+	return out, nil
+}
+
+// stripZone removes a time-zone designator (Z, ±hh, ±hh:mm) from the end of a
+// time; ok is false for a malformed one.
+func stripZone(t string) (string, bool) {
+	if strings.HasSuffix(t, "Z") {
+		return t[:len(t)-1], true
+	}
+	k := strings.LastIndexAny(t, "+-")
+	if k <= 0 || t[k-1] < '0' || t[k-1] > '9' {
+		if strings.IndexByte(t, '+') >= 0 {
+			return t, false
+		}
+		return t, true // a "-" here marks an unknown component
+	}
+	z := t[k+1:]
+	ok := len(z) == 2 && isDigits(z) && atoi(z) <= 23 ||
+		len(z) == 5 && isDigits(z[:2]) && z[2] == ':' && isDigits(z[3:]) && atoi(z[:2]) <= 23 && atoi(z[3:]) <= 59
+	if !ok {
+		// Not an offset: a "-" is left for the time parser to reject.
+		return t, t[k] == '-'
+	}
+	return t[:k], true
+}
+
+func isDigits(s string) bool {
+	for i := 0; i < len(s); i++ {
+		if s[i] < '0' || s[i] > '9' {
 			return false
 		}
 	}
-	return true
+	return s != ""
 }
 
-func digits(s string, n int) (int, bool) {
-	if len(s) != n {
-		return 0, false
-	}
+func atoi(s string) int {
 	v := 0
-	for i := 0; i < n; i++ {
-		c := s[i]
-		if c < '0' || c > '9' {
-			return 0, false
-		}
-		v = v*10 + int(c-'0')
+	for i := 0; i < len(s); i++ {
+		v = v*10 + int(s[i]-'0')
 	}
-	return v, true
+	return v
 }
 
 func daysIn(y, m int) int {
 	return time.Date(y, time.Month(m)+1, 0, 0, 0, 0, 0, time.UTC).Day()
-}
-
-func maxInt(a, b int) int {
-	if a > b {
-		return a
-	}
-	return b
 }
 
 const secondsPerDay = 86400
@@ -299,7 +308,8 @@ func epochDays(y, m, d int) float64 {
 }
 
 // span returns the half-open interval [lo, hi) in days since 1970-01-01
-// covered by d alone (ignoring End).
+// covered by d alone (ignoring End). A value with seconds covers its whole
+// second: the fraction (Date.Frac) is kept but finer than any comparison unit.
 func (d Date) span() (lo, hi float64) {
 	switch d.Prec {
 	case PrecYear:
@@ -316,7 +326,7 @@ func (d Date) span() (lo, hi float64) {
 		lo = epochDays(d.Year, d.Month, d.Day) + float64(d.Hour*60+d.Minute)/1440
 		return lo, lo + 1.0/1440
 	case PrecSecond:
-		lo = epochDays(d.Year, d.Month, d.Day) + (float64(d.Hour*3600+d.Minute*60+d.Second)+d.Frac)/secondsPerDay
+		lo = epochDays(d.Year, d.Month, d.Day) + float64(d.Hour*3600+d.Minute*60+d.Second)/secondsPerDay
 		return lo, lo + 1.0/secondsPerDay
 	}
 	return math.NaN(), math.NaN()
@@ -371,8 +381,16 @@ func unitDays(u Precision) float64 {
 // touches: the first and the last unit index.
 func unitBounds(lo, hi float64, u Precision) (first, last float64) {
 	ud := unitDays(u)
-	first = math.Floor(lo/ud + 1e-9)
-	last = math.Ceil(hi/ud-1e-9) - 1
+	// Interval ends lie on whole seconds; snap away rounding error, which
+	// reaches 1e-6 of a unit at second precision (~1.7e9 s since 1970).
+	snap := func(x float64) float64 {
+		if r := math.Round(x); math.Abs(x-r) < 1e-4 {
+			return r
+		}
+		return x
+	}
+	first = math.Floor(snap(lo / ud))
+	last = math.Ceil(snap(hi/ud)) - 1
 	if last < first {
 		last = first
 	}

@@ -149,7 +149,10 @@ func (c *Column) NMissing() int { return c.missing.Count() }
 
 // Float returns a numeric view of row i: the value for float storage, the
 // level index for coded storage (meaningful for ordinal and binary columns),
-// the midpoint day of a date. It returns NaN when the value is missing.
+// and for a date known to the day or finer its earliest point in days since
+// 1970-01-01 (fractional for times). It returns NaN when the value is missing,
+// and for a partial date or a window ("a/b") longer than a day, which have no
+// single position.
 func (c *Column) Float(i int) float64 {
 	if c.missing.Get(i) {
 		return math.NaN()
@@ -160,7 +163,7 @@ func (c *Column) Float(i int) float64 {
 	case StoreCode:
 		return float64(c.Codes[i])
 	case StoreDate:
-		if c.DatePrec[i] >= PrecDay {
+		if c.DatePrec[i] >= PrecDay && c.DateHi[i]-c.DateLo[i] <= 1+1e-9 {
 			return c.DateLo[i]
 		}
 		return math.NaN() // a partial date has no single position

@@ -4,8 +4,11 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"io"
 	"os"
+	"regexp"
 	"sort"
+	"strconv"
 	"strings"
 
 	"gopkg.in/yaml.v3"
@@ -37,10 +40,13 @@ func ParseVars(name string, b []byte) (map[string]VarSpec, error) {
 	var doc yaml.Node
 	dec := yaml.NewDecoder(bytes.NewReader(b))
 	if err := dec.Decode(&doc); err != nil {
-		return nil, fmt.Errorf("%s: %w", name, err)
+		if err == io.EOF {
+			return nil, &ParseError{File: name, Line: 1, Err: errors.New("empty variables file")}
+		}
+		return nil, yamlErr(name, b, err)
 	}
 	perr := func(n *yaml.Node, f string, a ...any) error {
-		return &ParseError{File: name, Line: n.Line, Column: n.Column, Err: fmt.Errorf(f, a...)}
+		return &ParseError{File: name, Line: max(n.Line, 1), Column: n.Column, Err: fmt.Errorf(f, a...)}
 	}
 	if len(doc.Content) == 0 {
 		return nil, &ParseError{File: name, Line: 1, Err: errors.New("empty variables file")}
@@ -70,11 +76,14 @@ func ParseVars(name string, b []byte) (map[string]VarSpec, error) {
 		if v.Kind != yaml.MappingNode {
 			return nil, perr(v, "variable %q: want a mapping of settings", k.Value)
 		}
-		spec := VarSpec{Source: fmt.Sprintf("%s:%d", name, k.Line)}
+		spec := VarSpec{Source: fmt.Sprintf("%s:%d", name, k.Line), file: name, line: k.Line, col: k.Column}
 		for j := 0; j+1 < len(v.Content); j += 2 {
 			fk, fv := v.Content[j], v.Content[j+1]
 			switch fk.Value {
 			case "type":
+				if fv.Kind != yaml.ScalarNode {
+					return nil, perr(fv, "variable %q: type must be a plain value", k.Value)
+				}
 				t, err := ParseType(fv.Value)
 				if err != nil {
 					return nil, perr(fv, "variable %q: %v", k.Value, err)
@@ -95,10 +104,15 @@ func ParseVars(name string, b []byte) (map[string]VarSpec, error) {
 					seen[l.Value] = true
 					spec.Levels = append(spec.Levels, l.Value)
 				}
-			case "unit":
-				spec.Unit = fv.Value
-			case "label":
-				spec.Label = fv.Value
+			case "unit", "label":
+				if fv.Kind != yaml.ScalarNode {
+					return nil, perr(fv, "variable %q: %s must be a plain value", k.Value, fk.Value)
+				}
+				if fk.Value == "unit" {
+					spec.Unit = fv.Value
+				} else {
+					spec.Label = fv.Value
+				}
 			default:
 				return nil, perr(fk, "variable %q: unknown setting %q (want type, levels, unit or label)", k.Value, fk.Value)
 			}
@@ -114,11 +128,44 @@ func ParseVars(name string, b []byte) (map[string]VarSpec, error) {
 	return out, nil
 }
 
-// CheckVars reports variables named in vars that no table of the study has,
-// as one error naming them all.
+// yamlLine splits a YAML syntax error message ("yaml: line 3: ...").
+var yamlLine = regexp.MustCompile(`^yaml: (?:line (\d+): )?(.*)$`)
+
+// yamlErr turns a YAML decoding error into a ParseError. yaml.v3 gives some
+// errors no line and places others where the enclosing block starts, so the
+// line is the first whose prefix of the file fails with the same message
+// (for files up to 1,000 lines), else the line yaml.v3 gives, else 1.
+func yamlErr(name string, b []byte, err error) error {
+	m := yamlLine.FindStringSubmatch(err.Error())
+	if m == nil {
+		return &ParseError{File: name, Line: 1, Err: err}
+	}
+	line, _ := strconv.Atoi(m[1])
+	if n := bytes.Count(b, []byte{'\n'}); n <= 1000 {
+		end := 0
+		for k := 1; end < len(b); k++ {
+			if i := bytes.IndexByte(b[end:], '\n'); i >= 0 {
+				end += i + 1
+			} else {
+				end = len(b)
+			}
+			var doc yaml.Node
+			perr := yaml.NewDecoder(bytes.NewReader(b[:end])).Decode(&doc)
+			if pm := yamlLine.FindStringSubmatch(fmt.Sprint(perr)); perr != nil && pm != nil && pm[2] == m[2] {
+				line = k
+				break
+			}
+		}
+	}
+	return &ParseError{File: name, Line: max(line, 1), Err: errors.New(m[2])}
+}
+
+// CheckVars reports variables named in vars that no table of the study has.
+// The error is a *ParseError at the first such variable's entry in the
+// variables file, listing the others; it wraps ErrUnknownVariable.
 func (s *Study) CheckVars(vars map[string]VarSpec) error {
 	var unknown []string
-	for name, spec := range vars {
+	for name := range vars {
 		found := false
 		for _, t := range s.Tables {
 			if t.Col(name) != nil {
@@ -127,12 +174,34 @@ func (s *Study) CheckVars(vars map[string]VarSpec) error {
 			}
 		}
 		if !found {
-			unknown = append(unknown, fmt.Sprintf("%q (%s)", name, spec.Source))
+			unknown = append(unknown, name)
 		}
 	}
 	if len(unknown) == 0 {
 		return nil
 	}
-	sort.Strings(unknown)
-	return fmt.Errorf("variables file names %s: %w", strings.Join(unknown, ", "), ErrUnknownVariable)
+	sort.Slice(unknown, func(i, j int) bool {
+		a, b := vars[unknown[i]], vars[unknown[j]]
+		if a.file != b.file {
+			return a.file < b.file
+		}
+		if a.line != b.line {
+			return a.line < b.line
+		}
+		return unknown[i] < unknown[j]
+	})
+	first := vars[unknown[0]]
+	more := ""
+	if len(unknown) > 1 {
+		q := make([]string, len(unknown)-1)
+		for i, n := range unknown[1:] {
+			q[i] = strconv.Quote(n)
+		}
+		more = "; also unknown: " + strings.Join(q, ", ")
+	}
+	cause := fmt.Errorf("%w: no table has it%s", ErrUnknownVariable, more)
+	if first.file == "" {
+		return fmt.Errorf("variable %q (%s): %w", unknown[0], orDefault(first.Source, "override"), cause)
+	}
+	return &ParseError{File: first.file, Line: first.line, Column: first.col, Var: unknown[0], Err: cause}
 }
