@@ -17,6 +17,8 @@ type dataFlags struct {
 	encoding  string
 	delimiter string
 	missing   string
+	level     string
+	define    string
 }
 
 func (d *dataFlags) register(cmd *cobra.Command) {
@@ -27,6 +29,8 @@ func (d *dataFlags) register(cmd *cobra.Command) {
 	f.StringVar(&d.encoding, "encoding", "utf-8", "text encoding of CSV files: utf-8, windows-1252 or latin1")
 	f.StringVar(&d.delimiter, "delimiter", "", "CSV delimiter: comma, semicolon or tab (default: detected)")
 	f.StringVar(&d.missing, "missing", "", "tokens read as missing, comma-separated (default: empty, NA, .)")
+	f.StringVar(&d.define, "define", "", "Define-XML `FILE` whose definitions override inferred types (default: define.xml in the study folder)")
+	f.StringVar(&d.level, "level", "", "unit of analysis for an SDTM folder: subject, visit, record:DOMAIN, or table:NAME (default visit)")
 }
 
 // options turns the flags into dataset options.
@@ -53,6 +57,7 @@ func (d *dataFlags) options() (dataset.Options, error) {
 		}
 	}
 	o.CSV.Site = d.site
+	o.Define = d.define
 	if d.vars != "" {
 		v, err := dataset.ReadVarsFile(d.vars)
 		if err != nil {

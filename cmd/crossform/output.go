@@ -28,6 +28,10 @@ func writeFileAtomic(path string, write func(io.Writer) error) error {
 		f.Close()
 		return fmt.Errorf("writing %s: %w", path, err)
 	}
+	if err := f.Chmod(0o644); err != nil {
+		f.Close()
+		return err
+	}
 	if err := f.Sync(); err != nil {
 		f.Close()
 		return err

@@ -56,6 +56,9 @@ func profileRun(o *profileOptions) error {
 	if err != nil {
 		return err
 	}
+	for _, w := range s.Warnings {
+		o.g.log.Warn(w)
+	}
 	return writeOut(o.out, o.stdout, func(w io.Writer) error {
 		return writeProfile(w, s, o.json, o.csv)
 	})

@@ -127,6 +127,15 @@ the study's data validation plan and local procedures.`,
 		newProfileCmd(g, nil),
 		newDemoDataCmd(g, nil),
 		newDemoCmd(g, nil),
+		newAssociateCmd(g, nil),
+		newClusterCmd(g, nil),
+		newSignalsCmd(g, nil),
+		newProposeCmd(g, nil),
+		newDecideCmd(g, nil),
+		newRulesCmd(g),
+		newCheckCmd(g, nil),
+		newReportCmd(g, nil),
+		newReviewCmd(g, nil),
 	)
 	return root
 }
