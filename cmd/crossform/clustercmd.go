@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 
 	"github.com/spf13/cobra"
@@ -51,6 +52,7 @@ silhouette is highest with --auto. It writes to DIR:
   clusters.dot      Graphviz source: one subgraph per cluster
   clusters.svg      the cluster graphs (built-in layout; --graphviz uses an installed dot)
   heatmap.svg       the strength matrix in dendrogram order with cluster boundaries
+                    (above 300 variables: heatmap-cluster-N.svg, one per cluster)
   dendrogram.svg    the tree with the cut marked
 
 and prints a short summary on stdout.`,
@@ -169,10 +171,7 @@ func writeClusterFiles(ctx context.Context, dir string, r *clusterResult, o *clu
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
-	files := []struct {
-		name  string
-		write func(io.Writer) error
-	}{
+	files := []outFile{
 		{"clusters.csv", func(w io.Writer) error { return render.ClustersCSV(w, r.in, r.part) }},
 		{"dependencies.csv", func(w io.Writer) error { return render.DependenciesCSV(w, r.vars, r.deps) }},
 		{"clusters.dot", func(w io.Writer) error {
@@ -196,10 +195,21 @@ func writeClusterFiles(ctx context.Context, dir string, r *clusterResult, o *clu
 		}},
 	}
 	if o.json {
-		files = append(files, struct {
-			name  string
-			write func(io.Writer) error
-		}{"clusters.json", func(w io.Writer) error { return render.ClustersJSON(w, r.in, r.part) }})
+		files = append(files, outFile{"clusters.json", func(w io.Writer) error { return render.ClustersJSON(w, r.in, r.part) }})
+	}
+	if r.in.Len() > heatmapMaxVars {
+		// One heatmap of every variable would be unreadable: write one per
+		// cluster instead, and the full one is left out.
+		files = slices.DeleteFunc(files, func(f outFile) bool {
+			return f.name == "heatmap.svg"
+		})
+		order := r.tree.Leaves()
+		for _, c := range r.part.Clusters {
+			c := c
+			files = append(files, outFile{fmt.Sprintf("heatmap-cluster-%d.svg", c.ID), func(w io.Writer) error {
+				return render.ClusterHeatmapSVG(w, r.in, order, c, render.HeatmapOptions{Title: fmt.Sprintf("Cluster %d", c.ID)})
+			}})
+		}
 	}
 	for _, f := range files {
 		if err := writeFileAtomic(filepath.Join(dir, f.name), f.write); err != nil {
@@ -207,4 +217,14 @@ func writeClusterFiles(ctx context.Context, dir string, r *clusterResult, o *clu
 		}
 	}
 	return nil
+}
+
+// heatmapMaxVars is the most variables drawn in one heatmap; larger studies
+// get one heatmap per cluster.
+const heatmapMaxVars = 300
+
+// An outFile is one output file and the function writing it.
+type outFile struct {
+	name  string
+	write func(io.Writer) error
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/csv"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -262,5 +263,43 @@ func TestCheckDemo(t *testing.T) {
 	}
 	if _, errs, code := runCLI(t, "check", cut, "--rules", rulesFile, "--allow-unevaluable", "--out", filepath.Join(tmp, "l5.csv")); code == exitError {
 		t.Errorf("--allow-unevaluable: exit %d: %s", code, errs)
+	}
+}
+
+func TestClusterLargeStudyPerClusterHeatmaps(t *testing.T) {
+	// 301 variables: four strongly related blocks and noise.
+	var b strings.Builder
+	for j := 0; j <= heatmapMaxVars; j++ {
+		if j > 0 {
+			b.WriteByte(',')
+		}
+		fmt.Fprintf(&b, "V%03d", j)
+	}
+	b.WriteByte('\n')
+	for i := 0; i < 60; i++ {
+		for j := 0; j <= heatmapMaxVars; j++ {
+			if j > 0 {
+				b.WriteByte(',')
+			}
+			v := float64((i*7919+j*104729)%1000) / 10 // noise
+			if j < 40 {
+				v = float64(i*(1+j%4)) + float64(j)/100 // four monotone blocks
+			}
+			fmt.Fprintf(&b, "%g", v)
+		}
+		b.WriteByte('\n')
+	}
+	dir := t.TempDir()
+	data := filepath.Join(dir, "wide.csv")
+	os.WriteFile(data, []byte(b.String()), 0o644)
+	out := filepath.Join(dir, "out")
+	if _, errs, code := runCLI(t, "cluster", data, "--out", out, "--quiet"); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if _, err := os.Stat(filepath.Join(out, "heatmap.svg")); err == nil {
+		t.Error("heatmap.svg written for more than heatmapMaxVars variables")
+	}
+	if _, err := os.Stat(filepath.Join(out, "heatmap-cluster-1.svg")); err != nil {
+		t.Errorf("no per-cluster heatmap: %v", err)
 	}
 }
