@@ -120,6 +120,13 @@ type ProposeOptions struct {
 	MinHintStrength, MaxHintQ float64
 	// PerVariable is the most proposals naming one variable (default 6).
 	PerVariable int
+	// Clusters maps variables to the cluster of related variables they
+	// belong to (package cluster; 0 or absent: no cluster). A rule whose
+	// variables all lie in one cluster counts against that cluster's limit
+	// PerCluster (default 20), so that one large group of related variables
+	// cannot crowd out the rest; rules across clusters are not limited.
+	Clusters   map[string]int
+	PerCluster int
 	// MaxRules is the most proposals returned (default 200).
 	MaxRules int
 	// Exclude lists variables never used (e.g. treatment arm in a blinded
@@ -133,7 +140,7 @@ func DefaultProposeOptions() ProposeOptions {
 		MinOrderAssoc: 0.3, MaxScaleRatio: 5, MinBandAssoc: 0.7, MaxBandResid: 0.6, BandK: 5, FitPairs: 20000,
 		Seed: 1, FenceK: 3, MinGroupEffect: 0.25, MinGroup: 10, MaxLevels: 12, MinExpected: 10, MaxCellRatio: 0.25,
 		VisitChangeK: 6, MaxChangeRatio: 0.5, MinExactAssoc: 0.995, MinHintStrength: 0.3, MaxHintQ: 0.05,
-		PerVariable: 6, MaxRules: 200, By: "crossform"}
+		PerVariable: 6, PerCluster: 20, MaxRules: 200, By: "crossform"}
 }
 
 func (o ProposeOptions) withDefaults() ProposeOptions {
@@ -177,6 +184,7 @@ func (o ProposeOptions) withDefaults() ProposeOptions {
 	setF(&o.MaxHintQ, d.MaxHintQ)
 	setI(&o.PerVariable, d.PerVariable)
 	setI(&o.MaxRules, d.MaxRules)
+	setI(&o.PerCluster, d.PerCluster)
 	if o.By == "" {
 		o.By = d.By
 	}
@@ -1424,6 +1432,7 @@ func (p *proposer) finish() []*Rule {
 	var kept []*Rule
 	seen := map[string]bool{}
 	perVar := map[string]int{}
+	perCluster := map[int]int{}
 outer:
 	for _, r := range rs {
 		if seen[r.ID] {
@@ -1440,6 +1449,9 @@ outer:
 				for _, v := range kept[j].Vars {
 					perVar[v]--
 				}
+				if c := p.clusterOf(kept[j]); c != 0 {
+					perCluster[c]--
+				}
 				kept = append(kept[:j], kept[j+1:]...)
 				j--
 			}
@@ -1449,8 +1461,15 @@ outer:
 				continue outer
 			}
 		}
+		c := p.clusterOf(r)
+		if c != 0 && perCluster[c] >= p.o.PerCluster {
+			continue
+		}
 		for _, v := range r.Vars {
 			perVar[v]++
+		}
+		if c != 0 {
+			perCluster[c]++
 		}
 		seen[r.ID] = true
 		kept = append(kept, r)
@@ -1459,6 +1478,20 @@ outer:
 		}
 	}
 	return kept
+}
+
+// clusterOf returns the cluster holding all of r's variables, or 0 when
+// they are not all in one cluster.
+func (p *proposer) clusterOf(r *Rule) int {
+	c := 0
+	for i, v := range r.Vars {
+		k := p.o.Clusters[v]
+		if k == 0 || i > 0 && k != c {
+			return 0
+		}
+		c = k
+	}
+	return c
 }
 
 // Fingerprint returns a short fingerprint of a table's content (names,

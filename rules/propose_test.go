@@ -313,7 +313,7 @@ func nanValue() float64 { return nan }
 // BenchmarkPropose: go test ./rules -run '^$' -bench Propose -benchtime 1x
 // (issue targets: the demo study under 10 s; 5,000 × 1,000 under 60 s).
 func BenchmarkPropose(b *testing.B) {
-	for _, size := range []struct{ n, p int }{{1000, 50}, {5000, 200}, {5000, 1000}} {
+	for _, size := range []struct{ n, p int }{{1000, 50}, {5000, 200}, {5000, 400}, {5000, 1000}} {
 		tb := benchTable(size.n, size.p)
 		b.Run(fmt.Sprintf("%dx%d", size.n, size.p), func(b *testing.B) {
 			b.ReportAllocs()
@@ -339,4 +339,37 @@ func BenchmarkProposeDemo(b *testing.B) {
 			}
 		}
 	}
+}
+
+// TestProposePerCluster: with a limit of one proposal per cluster, only the
+// best-ranked rule among variables of one cluster is kept; rules across
+// clusters are not limited (hand-derived from the cap's definition).
+func TestProposePerCluster(t *testing.T) {
+	tb := benchTable(600, 12)
+	all, err := Propose(tb, "table", nil, ProposeOptions{Now: fixedNow})
+	if err != nil {
+		t.Fatal(err)
+	}
+	clusters := map[string]int{}
+	for _, c := range tb.Cols {
+		clusters[c.Name] = 1 // one cluster holding every variable
+	}
+	capped, err := Propose(tb, "table", nil, ProposeOptions{Now: fixedNow, Clusters: clusters, PerCluster: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(all) < 2 {
+		t.Fatalf("want several proposals on the bench table, got %d", len(all))
+	}
+	if len(capped) != 1 || capped[0].ID != all[0].ID {
+		t.Errorf("PerCluster 1: got %d rules (first %v), want only the top rule %s", len(capped), ids(capped), all[0].ID)
+	}
+}
+
+func ids(rs []*Rule) []string {
+	var out []string
+	for _, r := range rs {
+		out = append(out, r.ID)
+	}
+	return out
 }

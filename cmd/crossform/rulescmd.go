@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/crossform/crossform/assoc"
+	"github.com/crossform/crossform/cluster"
 	"github.com/crossform/crossform/dataset"
 	"github.com/crossform/crossform/render"
 	"github.com/crossform/crossform/rules"
@@ -59,6 +60,25 @@ func hintsOf(m *assoc.Matrix) []rules.Hint {
 	return h
 }
 
+// clustersOf clusters the matrix's variables (average linkage, cut at the
+// default strength) for the proposer's per-cluster limit: variable → cluster
+// number, singletons left out.
+func clustersOf(m *assoc.Matrix) (map[string]int, error) {
+	in := cluster.Input{Names: m.Names, Strength: m.Dense()}
+	tr, err := cluster.Hierarchy(in, cluster.Average)
+	if err != nil {
+		return nil, err
+	}
+	part := cluster.Summarize(in, tr.CutStrength(cluster.DefaultMinStrength), 0)
+	out := map[string]int{}
+	for _, c := range part.Clusters {
+		for _, mb := range c.Members {
+			out[mb.Name] = c.ID
+		}
+	}
+	return out, nil
+}
+
 type proposeOptions struct {
 	g        *globalOptions
 	data     dataFlags
@@ -84,7 +104,10 @@ func newProposeCmd(g *globalOptions, runF func(*proposeOptions) error) *cobra.Co
 strong associations and the data into candidate rules (order, implies, band,
 derived, presence, group_range, visit_change, cutoff) with their evidence
 (records judged, support, violations, example records, confidence), and merges
-them into the rule set FILE (created if absent) as "proposed".
+them into the rule set FILE (created if absent) as "proposed". Proposals are
+ranked by their expected value to a reviewer and limited per variable (6) and
+per cluster of related variables (20), so that one large group cannot crowd
+out the rest.
 
 Merging never loses a decision: accepted, rejected and retired rules keep
 their status and history, their evidence is refreshed, a rejected rule is never
@@ -144,15 +167,19 @@ func proposeRun(o *proposeOptions) error {
 			return err
 		}
 		var hints []rules.Hint
+		var clusters map[string]int
 		if !o.noAssoc {
 			m, err := computeMatrix(o.ctx, o.g, t, assoc.Options{})
 			if err != nil {
 				return err
 			}
 			hints = hintsOf(m)
+			if clusters, err = clustersOf(m); err != nil {
+				return err
+			}
 		}
 		fp := rules.Fingerprint(t)
-		props, err := rules.Propose(t, lv, hints, rules.ProposeOptions{Fingerprint: fp, Now: o.now, By: o.by})
+		props, err := rules.Propose(t, lv, hints, rules.ProposeOptions{Fingerprint: fp, Now: o.now, By: o.by, Clusters: clusters})
 		if err != nil {
 			return fmt.Errorf("proposing at %s level: %w", lv, err)
 		}
