@@ -1,16 +1,14 @@
 package render
 
 import (
-	"bytes"
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
 
+	"github.com/crossform/crossform/internal/atomicfile"
 	"github.com/crossform/crossform/rules"
 	"github.com/crossform/crossform/rules/check"
 )
@@ -176,40 +174,7 @@ func WriteListingFile(path, format string, l *Listing, o XLSXOptions) error {
 	if !slices.Contains(ListingFormats(), format) && format != "" {
 		return fmt.Errorf("unknown listing format %q (want %s)", format, strings.Join(ListingFormats(), ", "))
 	}
-	return WriteFileAtomic(path, func(w io.Writer) error { return WriteListing(w, format, l, o) })
-}
-
-// WriteFileAtomic writes path through write: into a buffer, then a
-// temporary file in path's folder, fsync'ed, renamed over path. On error
-// path is left as it was.
-func WriteFileAtomic(path string, write func(io.Writer) error) error {
-	var buf bytes.Buffer
-	if err := write(&buf); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	_, err = f.Write(buf.Bytes())
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(tmp, 0o644)
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	return nil
+	return atomicfile.Write(path, func(w io.Writer) error { return WriteListing(w, format, l, o) })
 }
 
 // ---- summaries ----

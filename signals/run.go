@@ -8,6 +8,7 @@ import (
 	"slices"
 	"strconv"
 
+	"github.com/crossform/crossform/assoc"
 	"github.com/crossform/crossform/dataset"
 )
 
@@ -246,7 +247,7 @@ func bh(p []float64) []float64 {
 	if len(p) == 0 {
 		return nil
 	}
-	return benjaminiHochberg(p)
+	return assoc.BenjaminiHochberg(p, nil)
 }
 
 func uniqueLabels(ids []string) []string {

@@ -472,5 +472,3 @@ func midRanks(v []float64) []float64 {
 	}
 	return r
 }
-
-func benjaminiHochberg(p []float64) []float64 { return assoc.BenjaminiHochberg(p, nil) }

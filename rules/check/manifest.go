@@ -7,12 +7,12 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"sort"
 	"strconv"
 	"time"
 
 	"github.com/crossform/crossform/dataset"
+	"github.com/crossform/crossform/internal/atomicfile"
 	"github.com/crossform/crossform/rules"
 )
 
@@ -176,41 +176,9 @@ func (m *Manifest) WriteFile(path string) error {
 	return WriteFileAtomic(path, m.WriteJSON)
 }
 
-// WriteFileAtomic writes path through write: to a temporary file in path's
-// folder, fsync'ed and closed, then renamed over path (and the folder synced
-// where the platform allows). On any error the temporary file is removed and
-// path is left as it was.
-func WriteFileAtomic(path string, write func(io.Writer) error) (err error) {
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	if err = write(f); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err = f.Sync(); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err = os.Chmod(tmp, 0o644); err != nil {
-		return err
-	}
-	if err = os.Rename(tmp, path); err != nil {
-		return err
-	}
-	if d, derr := os.Open(dir); derr == nil {
-		d.Sync() // best effort: not every platform syncs folders
-		d.Close()
-	}
-	return nil
+// WriteFileAtomic writes path through write atomically (package
+// internal/atomicfile): a reader or a crash sees the old file or the new
+// one, never a part.
+func WriteFileAtomic(path string, write func(io.Writer) error) error {
+	return atomicfile.Write(path, write)
 }

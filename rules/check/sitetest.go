@@ -1,11 +1,11 @@
 package check
 
 import (
-	"cmp"
 	"math"
-	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/crossform/crossform/assoc"
 )
 
 // Defaults for SiteTestOptions.
@@ -98,23 +98,7 @@ func BinomialUpperTail(k, n int, p float64) float64 {
 // Hochberg 1995, J. R. Stat. Soc. B 57:289–300; the same definition as R's
 // p.adjust(method = "BH")). NaN inputs are left NaN and not counted in m.
 func BenjaminiHochberg(p []float64) []float64 {
-	q := make([]float64, len(p))
-	idx := make([]int, 0, len(p))
-	for i, x := range p {
-		q[i] = math.NaN()
-		if !math.IsNaN(x) {
-			idx = append(idx, i)
-		}
-	}
-	slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(p[a], p[b]) })
-	m := float64(len(idx))
-	running := 1.0
-	for r := len(idx) - 1; r >= 0; r-- {
-		v := p[idx[r]] * m / float64(r+1)
-		running = math.Min(running, v)
-		q[idx[r]] = running
-	}
-	return q
+	return assoc.BenjaminiHochberg(p, nil)
 }
 
 // SiteTest screens sites for a discrepancy rate that stands out: for each site
