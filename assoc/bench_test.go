@@ -72,7 +72,8 @@ func BenchmarkSomersD(b *testing.B) {
 
 // BenchmarkGramComplete times the complete-data Spearman path alone: ranks of
 // p numeric columns without missing values and one rank Gram matrix
-// (blas64.Syrk, pure Go), as numpy would do with a BLAS dsyrk.
+// (gramSyrk: gonum's pure-Go BLAS, or OpenBLAS under -tags openblas), as numpy
+// would do with a BLAS dsyrk.
 func BenchmarkGramComplete(b *testing.B) {
 	for _, sz := range []struct{ n, p int }{{2000, 150}, {5000, 750}} {
 		b.Run(fmt.Sprintf("n=%d/p=%d", sz.n, sz.p), func(b *testing.B) {

@@ -109,7 +109,8 @@ func (c *col) ranked() bool { return c.kind == KindNumeric || c.kind == KindOrdi
 // in int64 as doubled ranks (2k + t + 1 for a tie group of t after k smaller
 // values), so ρ is computed from exact integers. Pairs of numeric variables
 // with no missing values take ΣRxRy from one Gram matrix of ranks (gonum's
-// pure-Go BLAS dsyrk, exact in float64 for up to 100,000 rows). The cost is
+// pure-Go BLAS dsyrk, or OpenBLAS under the openblas build tag; exact in
+// float64 for up to 100,000 rows). The cost is
 // O(n) per pair, never O(n²), and memory O(p² + n·p); a pair allocates
 // nothing (each worker reuses its scratch buffers).
 //
@@ -431,6 +432,15 @@ func gramOfComplete(prep []*col, n, workers int) ([]float64, int) {
 		}
 	}
 	c := make([]float64, gp*gp)
+	gramSyrk(a, c, gp, n, workers)
+	return c, gp
+}
+
+// gramGonum sets the upper triangle of c (gp×gp, row-major) to a·aᵀ, where a
+// is gp×n row-major, with gonum's pure-Go BLAS; up to workers goroutines share
+// the blocks. It is the default build's gramSyrk and, in the tests, the
+// reference that the OpenBLAS build is checked against.
+func gramGonum(a, c []float64, gp, n, workers int) {
 	// Blocks of the upper triangle, shared among the workers: dsyrk on the
 	// diagonal blocks, dgemm off the diagonal. Each element is computed once
 	// whatever the schedule.
@@ -457,7 +467,6 @@ func gramOfComplete(prep []*col, n, workers int) ([]float64, int) {
 		}
 		blas64.Gemm(blas.NoTrans, blas.Trans, 1, ai, aj, 0, blas64.General{Rows: ai.Rows, Cols: aj.Rows, Stride: gp, Data: c[off:]})
 	})
-	return c, gp
 }
 
 // fillQ sets Q and MissQ by Benjamini–Hochberg over all pairs.
