@@ -1,10 +1,7 @@
 package main
 
 import (
-	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 
 	"github.com/crossform/crossform/internal/atomicfile"
 )
