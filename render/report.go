@@ -23,6 +23,7 @@ import (
 	"github.com/crossform/crossform/dataset"
 	"github.com/crossform/crossform/rules"
 	"github.com/crossform/crossform/rules/check"
+	"github.com/crossform/crossform/signals"
 )
 
 //go:embed assets/report.css
@@ -55,6 +56,8 @@ type ReportData struct {
 	Proposals []Proposal
 	// Discrepancies is the checker's result; nil when no rule was run.
 	Discrepancies *ReportDiscrepancies
+	// Sites holds the site and subject signals; nil when they were not computed.
+	Sites *ReportSites
 }
 
 // ReportStudy describes the extract the report is about.
@@ -129,6 +132,7 @@ type Plot struct {
 	Cross        *CrossTable
 	Trajectories *TrajectoryPlot
 	Strip        *StripPlot
+	Shift        *ShiftPlot
 	Caption      string
 }
 
@@ -158,6 +162,10 @@ type ScatterPlot struct {
 	// Area is the allowed region as a closed polygon (e.g. a band); nil when none.
 	Area  []XY
 	Lines []PlotLine
+	// Groups, when Groups[0] is set, name two groups of points other than passing and
+	// flagged records: points with Fail false are Groups[0], drawn grey underneath, the
+	// others Groups[1], drawn dark on top (e.g. the other sites and one site).
+	Groups [2]string
 }
 
 // CrossTable is the contingency table of two categorical variables; Forbidden marks the
@@ -204,6 +212,19 @@ type StripGroup struct {
 	Lo, Hi float64
 }
 
+// ShiftPlot compares one variable's distribution at one site with the other sites'
+// pooled values, stratum by stratum (visits): each side's quartiles as a box with its
+// median, the medians joined across strata, and the strata whose test is flagged marked.
+type ShiftPlot struct {
+	YName, Site string
+	Strata      []string // x labels, in order
+	// SiteQ and OthersQ hold per stratum the 25th, 50th and 75th percentiles of the
+	// site's and the other sites' values; NaN when there are none.
+	SiteQ, OthersQ [][3]float64
+	N, NOthers     []int  // values per stratum
+	Flag           []bool // per stratum: the site's test is flagged
+}
+
 // ReportDiscrepancies is what the checker found.
 type ReportDiscrepancies struct {
 	// IncludesProposed is true when proposed rules were run too, as a preview.
@@ -216,6 +237,95 @@ type ReportDiscrepancies struct {
 	Previous string
 	// MaxRows bounds the findings listed (0 means 300); the counts cover all of them.
 	MaxRows int
+}
+
+// ReportSites is the Sites section: the site and subject signals of package signals (site
+// relationship and distribution tests, near-identical subjects, quality scores), one row
+// per site, and for each flagged site the tests, figures and tables that show why.
+type ReportSites struct {
+	// Note says why no signals are shown ("" when they were computed; the other fields
+	// are then empty).
+	Note     string
+	Subjects int // subjects of the subject-level table
+	Profile  int // variables of the subject profile that near-identical subjects are compared on
+	MinSiteN int // sites (and strata) with fewer subjects are not tested
+	// Components name the quality-score components, in the order of SiteRow.Components.
+	Components []string
+	// Scored says which findings the quality scores count (e.g. "the 271 discrepancies
+	// listed below"); "" when none were counted.
+	Scored  string
+	Rows    []SiteRow     // flagged sites first, then by site code
+	Flagged []FlaggedSite // one per flagged site, in the order of Rows
+}
+
+// SiteRow is one site's line of the Sites table.
+type SiteRow struct {
+	signals.SiteSignal
+	// Score is the site's quality-score total (robust z units, higher is worse), Rank its
+	// rank among the sites (1 = worst; 0 when the site has no score) and Components its
+	// ingredients in the order of ReportSites.Components.
+	Score      float64
+	Rank       int
+	Components []signals.Component
+}
+
+// FlaggedSite shows why one site is flagged: its flagged tests, a figure per flagged
+// variable or pair (at most a few), and its groups of near-identical subjects.
+type FlaggedSite struct {
+	Site    string
+	Tests   []SiteTest
+	Figures []Plot
+	// NotDrawn counts the flagged variables and pairs without a figure.
+	NotDrawn int
+	Groups   []NearGroup
+}
+
+// SiteTest is one flagged site test.
+type SiteTest struct {
+	Kind    string // "relationship" or "distribution"
+	Table   string // the table's level or name
+	Vars    string // "X ~ Y" for a relationship, the variable for a distribution
+	Stratum string // e.g. "visit 4 (WEEK 4)"; "" when the table has no strata
+	// N and NOthers count subjects (relationship) or values (distribution) at the site
+	// and at the other sites.
+	N, NOthers int
+	// Site and Others are Spearman's ρ (relationship) or the median (distribution) at the
+	// site and over the other sites pooled.
+	Site, Others float64
+	Ratio        float64 // median ratio, NaN for a relationship
+	Effect       float64 // Brunner–Munzel relative effect, NaN for a relationship
+	Q            float64 // Benjamini–Hochberg q-value
+}
+
+// NearGroup is a group of near-identical subjects at one site: its subjects, its flagged
+// pairs, and the subjects' values of the variables that agree in those pairs.
+type NearGroup struct {
+	ID       int // 1-based, as numbered by signals.Duplicates
+	Subjects []string
+	// Hidden counts subjects of the group not shown.
+	Hidden int
+	Pairs  []NearPair
+	Vars   []NearVar // least likely to agree by chance first
+}
+
+// NearPair is one flagged pair of a NearGroup.
+type NearPair struct {
+	A, B string
+	// Dist is the robust Gower distance, Z its robust z against the nearest-neighbour
+	// distances, P the empirical tail probability.
+	Dist, Z, P float64
+	// Compared counts variables present on both subjects, Agree those that agree.
+	Compared, Agree int
+}
+
+// NearVar is one variable that agrees in at least one pair of a NearGroup.
+type NearVar struct {
+	Name string
+	// Chance is the share of all pairs of subjects that agree on the variable at least as
+	// closely (signals.Agreement.Chance).
+	Chance float64
+	Pairs  int      // pairs of the group that agree on it
+	Values []string // each subject's value, in the order of NearGroup.Subjects
 }
 
 // ReportOptions control ReportHTML.
@@ -263,6 +373,10 @@ var reportTemplate = template.Must(template.New("report").Funcs(template.FuncMap
 	"add":      func(a, b int) int { return a + b },
 	"fdiv":     func(a, b int) float64 { return float64(a) / float64(b) },
 	"plot":     func(p Plot, id string) template.HTML { return template.HTML(plotSVG(p, id)) },
+	"fid":      func(a string, b int) string { return fmt.Sprintf("s%s-%d", anchorRE.ReplaceAllString(a, "-"), b) },
+	"siteid":   func(site string) string { return "site-" + anchorRE.ReplaceAllString(site, "-") },
+	"ratio":    fmtRatio,
+	"compname": componentName,
 	"imgsvg":   svgDataURI,
 	"heatmap":  heatmapImg,
 	"graph":    graphImg,
@@ -322,6 +436,30 @@ func fmtNum(x float64) string {
 		return strconv.FormatFloat(x, 'f', 1, 64)
 	}
 	return strconv.FormatFloat(x, 'g', 3, 64)
+}
+
+// componentName is the column heading of a quality-score component (the section's note
+// says that the first two are per subject).
+func componentName(c string) string {
+	switch c {
+	case signals.CompDiscrepancy:
+		return "Discrepancies"
+	case signals.CompNotEvaluable:
+		return "Not evaluable"
+	case signals.CompMissing:
+		return "Missing"
+	case signals.CompSignals:
+		return "Signals"
+	}
+	return c
+}
+
+// fmtRatio prints a ratio with two decimals ("–" when undefined).
+func fmtRatio(x float64) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'f', 2, 64)
 }
 
 func fmtPct(x float64) string {

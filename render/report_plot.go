@@ -93,6 +93,8 @@ func plotSVG(p Plot, id string) string {
 		trajectorySVG(s, p.Trajectories)
 	case p.Strip != nil:
 		stripSVG(s, p.Strip)
+	case p.Shift != nil:
+		shiftSVG(s, p.Shift)
 	default:
 		return ""
 	}
@@ -215,6 +217,14 @@ func (s *svgDoc) legend(entries ...[2]string) {
 			s.f(`<path d="M%s %sh12" stroke="%s" stroke-width="1.2"/>`, pn(x-2), pn(legendY-4), plotOther)
 		case "flagged":
 			s.f(`<path d="M%s %sh12" stroke="%s" stroke-width="1.6"/>`, pn(x-2), pn(legendY-4), plotPass)
+		case "grey":
+			s.f(`<circle cx="%s" cy="%s" r="3" fill="%s" fill-opacity="0.8"/>`, pn(x+4), pn(legendY-4), plotOther)
+		case "dark":
+			s.f(`<circle cx="%s" cy="%s" r="3" fill="%s" fill-opacity="0.85"/>`, pn(x+4), pn(legendY-4), plotPass)
+		case "otherbox":
+			s.f(`<rect x="%s" y="%s" width="12" height="9" fill="%s" fill-opacity="0.55" stroke="%s"/>`, pn(x-2), pn(legendY-9), plotOther, plotAxis)
+		case "sitebox":
+			s.f(`<rect x="%s" y="%s" width="12" height="9" fill="%s" fill-opacity="0.25" stroke="%s" stroke-width="1.5"/>`, pn(x-2), pn(legendY-9), plotPass, plotPass)
 		}
 		s.text(x+14, legendY, "start", "", e[1])
 		x += 22 + 6.2*float64(len([]rune(e[1])))
@@ -258,6 +268,10 @@ func scatterSVG(s *svgDoc, p *ScatterPlot) {
 	ay := newAxis(ys, padT+innerH, padT, p.YDate)
 	desc := fmt.Sprintf("Scatter plot of %s against %s: %d records drawn of %d, %d flagged by the rule (crosses).",
 		p.YName, p.XName, len(p.Points), p.Total, nFail)
+	if p.Groups[0] != "" {
+		desc = fmt.Sprintf("Scatter plot of %s against %s: %d records drawn of %d, %d of them %s (dark, on top), the others %s (grey).",
+			p.YName, p.XName, len(p.Points), p.Total, nFail, p.Groups[1], p.Groups[0])
+	}
 	s.open(plotW, plotH, p.YName+" against "+p.XName, desc)
 	s.clip()
 	s.frame(ax, ay, p.XName, p.YName)
@@ -265,8 +279,11 @@ func scatterSVG(s *svgDoc, p *ScatterPlot) {
 	if len(p.Area) > 0 {
 		s.f(`<path d="%s" fill="%s" fill-opacity="0.7"/>`, polyPath(ax, ay, p.Area, true), plotArea)
 	}
+	if p.Groups[0] != "" {
+		groupPoints(s, ax, ay, p.Points)
+	}
 	for _, pt := range p.Points {
-		if !pt.Fail {
+		if !pt.Fail && p.Groups[0] == "" {
 			s.f(`<circle cx="%s" cy="%s" r="%s" fill="%s" fill-opacity="0.45"/>`, pn(ax.at(pt.X)), pn(ay.at(pt.Y)), pn(pointR), plotPass)
 		}
 	}
@@ -283,12 +300,15 @@ func scatterSVG(s *svgDoc, p *ScatterPlot) {
 		}
 	}
 	for _, pt := range p.Points {
-		if pt.Fail {
+		if pt.Fail && p.Groups[0] == "" {
 			s.cross(ax.at(pt.X), ay.at(pt.Y))
 		}
 	}
 	s.b.WriteString("</g>")
 	leg := [][2]string{{"pass", "passes"}, {"fail", "flagged"}}
+	if p.Groups[0] != "" {
+		leg = [][2]string{{"grey", p.Groups[0]}, {"dark", p.Groups[1]}}
+	}
 	if len(p.Area) > 0 {
 		leg = append(leg, [2]string{"area", "allowed band"})
 	}
@@ -515,6 +535,100 @@ func stripSVG(s *svgDoc, p *StripPlot) {
 	}
 	s.b.WriteString("</g>")
 	s.legend([2]string{"pass", "passes"}, [2]string{"fail", "flagged"}, [2]string{"limit", "group limits"})
+}
+
+// groupPoints draws the points of a two-group scatter: the first group (Fail false) grey
+// underneath, the second dark on top.
+func groupPoints(s *svgDoc, ax, ay axis, pts []ScatterPoint) {
+	for _, second := range []bool{false, true} {
+		colour, op := plotOther, "0.55"
+		if second {
+			colour, op = plotPass, "0.8"
+		}
+		for _, pt := range pts {
+			if pt.Fail == second {
+				s.f(`<circle cx="%s" cy="%s" r="%s" fill="%s" fill-opacity="%s"/>`, pn(ax.at(pt.X)), pn(ay.at(pt.Y)), pn(pointR), colour, op)
+			}
+		}
+	}
+}
+
+// shiftSVG draws a ShiftPlot: per stratum, the other sites' box (grey, left) and the
+// site's box (blue outline, right), each from the 25th to the 75th percentile with a bar
+// at the median; the medians joined across strata; a cross on the site's median where its
+// test is flagged.
+func shiftSVG(s *svgDoc, p *ShiftPlot) {
+	var ys []float64
+	nFlag := 0
+	for k := range p.Strata {
+		ys = append(ys, p.SiteQ[k][:]...)
+		ys = append(ys, p.OthersQ[k][:]...)
+		if p.Flag[k] {
+			nFlag++
+		}
+	}
+	ax := axis{lo: -0.5, hi: float64(len(p.Strata)) - 0.5, p0: padL, p1: padL + innerW}
+	for i := range p.Strata {
+		ax.ticks = append(ax.ticks, float64(i))
+	}
+	ax.labelFor = func(v float64) string {
+		return clipText(p.Strata[int(v)], int(innerW/float64(max(1, len(p.Strata)))/5.8))
+	}
+	ay := newAxis(ys, padT+innerH, padT, false)
+	desc := fmt.Sprintf("%s at site %s and at the other sites, by %d strata: quartile boxes and medians; %d strata flagged (crosses).",
+		p.YName, p.Site, len(p.Strata), nFlag)
+	s.open(plotW, plotH, p.YName+" at site "+p.Site+" and the other sites", desc)
+	s.clip()
+	xTitle := "visit"
+	if len(p.Strata) == 1 {
+		xTitle = ""
+	}
+	s.frame(ax, ay, xTitle, p.YName)
+	s.f(`<g clip-path="url(#%s-c)">`, s.id)
+	step := ax.at(1) - ax.at(0)
+	off, half := 0.17*step, math.Min(0.13*step, 22)
+	box := func(cx float64, q [3]float64, fill, op, stroke, width string) {
+		if math.IsNaN(q[1]) {
+			return
+		}
+		y0, y1 := ay.at(q[2]), ay.at(q[0])
+		s.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="%s" fill-opacity="%s" stroke="%s" stroke-width="%s"/>`,
+			pn(cx-half), pn(y0), pn(2*half), pn(math.Max(y1-y0, 1)), fill, op, stroke, width)
+		s.f(`<path d="M%s %sh%s" stroke="%s" stroke-width="2.4"/>`, pn(cx-half), pn(ay.at(q[1])), pn(2*half), stroke)
+	}
+	line := func(dx float64, qs [][3]float64, colour, width string) {
+		var b strings.Builder
+		n := 0
+		for k, q := range qs {
+			if math.IsNaN(q[1]) {
+				continue
+			}
+			if n == 0 {
+				b.WriteString("M")
+			} else {
+				b.WriteString("L")
+			}
+			b.WriteString(pn(ax.at(float64(k))+dx) + " " + pn(ay.at(q[1])))
+			n++
+		}
+		if n > 1 {
+			s.f(`<path d="%s" fill="none" stroke="%s" stroke-width="%s"/>`, b.String(), colour, width)
+		}
+	}
+	line(-off, p.OthersQ, plotAxis, "1.4")
+	line(off, p.SiteQ, plotPass, "1.8")
+	for k := range p.Strata {
+		cx := ax.at(float64(k))
+		box(cx-off, p.OthersQ[k], plotOther, "0.55", plotAxis, "1")
+		box(cx+off, p.SiteQ[k], plotPass, "0.25", plotPass, "1.5")
+	}
+	for k := range p.Strata {
+		if p.Flag[k] && !math.IsNaN(p.SiteQ[k][1]) {
+			s.cross(ax.at(float64(k))+off, ay.at(p.SiteQ[k][1]))
+		}
+	}
+	s.b.WriteString("</g>")
+	s.legend([2]string{"otherbox", "other sites"}, [2]string{"sitebox", "site " + p.Site}, [2]string{"fail", "flagged"})
 }
 
 // jitter spreads the k-th point of a strip over [−1, 1) by the golden-ratio sequence:

@@ -16,6 +16,7 @@ import (
 	"github.com/crossform/crossform/dataset"
 	"github.com/crossform/crossform/rules"
 	"github.com/crossform/crossform/rules/check"
+	"github.com/crossform/crossform/signals"
 )
 
 // reportFixture is a small invented report: one table, one card per figure type, a
@@ -85,8 +86,53 @@ func reportFixture(t testing.TB) *ReportData {
 					{Site: "09", Subjects: 2, Evaluations: 20, Rate: 0, Test: check.SiteTestResult{Site: "09", Reason: "fewer than 3 subjects", Ratio: nan, P: nan, Q: nan}},
 				},
 			}},
+		Sites: sitesFixture(),
 	}
 	return d
+}
+
+// sitesFixture is a small invented Sites section: site 07 flagged by a distribution shift
+// and a relationship, site 06 by a group of near-identical subjects, site 01 not flagged,
+// site 09 too small to test.
+func sitesFixture() *ReportSites {
+	nan := math.NaN()
+	comps := func(v ...float64) []signals.Component {
+		var out []signals.Component
+		for i, n := range signals.Components {
+			out = append(out, signals.Component{Name: n, Value: v[2*i], Z: v[2*i+1]})
+		}
+		return out
+	}
+	return &ReportSites{Subjects: 120, Profile: 30, MinSiteN: 20, Components: signals.Components, Scored: "the 2 discrepancies listed",
+		Rows: []SiteRow{
+			{SiteSignal: signals.SiteSignal{Site: "06", Subjects: 26, RelationTests: 9, ShiftTests: 48, DuplicateSubjects: 3, MaxRatio: nan, Flagged: true},
+				Score: 1.08, Rank: 1, Components: comps(0, 0, 0, 0, 0.1635, -2.39, 3, 6.7)},
+			{SiteSignal: signals.SiteSignal{Site: "07", Subjects: 48, RelationTests: 9, RelationFlags: 1, ShiftTests: 84, ShiftFlags: 2, MaxRatio: 2.36491, MaxRatioVar: "VS.WEIGHT", Flagged: true},
+				Score: 0.83, Rank: 2, Components: comps(0.02, 0.5, 0, 0, 0.1659, -1.14, 3, 4.47)},
+			{SiteSignal: signals.SiteSignal{Site: "01", Subjects: 34, RelationTests: 9, ShiftTests: 84, MaxRatio: nan},
+				Score: -0.2, Rank: 3, Components: comps(0, 0, 0, 0, 0.17, 0.3, 0, 0)},
+			{SiteSignal: signals.SiteSignal{Site: "09", Subjects: 12, MaxRatio: nan}},
+		},
+		Flagged: []FlaggedSite{
+			{Site: "06", Groups: []NearGroup{{ID: 1, Subjects: []string{"CF-06-008", "CF-06-012", "CF-06-014"},
+				Pairs: []NearPair{{A: "CF-06-008", B: "CF-06-014", Dist: 0.0082, Z: -10.97, P: 0.005, Compared: 30, Agree: 12},
+					{A: "CF-06-012", B: "CF-06-014", Dist: 0.0128, Z: -9.11, P: 0.008, Compared: 30, Agree: 11}},
+				Vars: []NearVar{{Name: "AGE", Chance: 0.029, Pairs: 2, Values: []string{"54", "54", "54"}},
+					{Name: "SEX", Chance: 0.499, Pairs: 1, Values: []string{"F", "", "F"}}}}}},
+			{Site: "07", NotDrawn: 1,
+				Tests: []SiteTest{
+					{Kind: "relationship", Table: "visit", Vars: "VS.BMI ~ VS.WEIGHT", N: 48, NOthers: 552, Site: 0.338, Others: 0.760, Ratio: nan, Effect: nan, Q: 0.0037},
+					{Kind: "distribution", Table: "visit", Vars: "VS.WEIGHT", Stratum: "visit 4 (WEEK 4)", N: 36, NOthers: 426, Site: 193.9, Others: 84.45, Ratio: 2.296, Effect: 0.999, Q: 2.6e-102},
+				},
+				Figures: []Plot{
+					{Caption: "VS.WEIGHT by visit", Shift: &ShiftPlot{YName: "VS.WEIGHT", Site: "07", Strata: []string{"SCREENING", "WEEK 2", "WEEK 4"},
+						SiteQ:   [][3]float64{{75, 84, 92}, {76, 85, 93}, {180, 194, 205}},
+						OthersQ: [][3]float64{{74, 84.5, 95}, {75, 85, 96}, {nan, nan, nan}},
+						N:       []int{40, 38, 36}, NOthers: []int{500, 480, 0}, Flag: []bool{false, false, true}}},
+					{Caption: "VS.BMI against VS.WEIGHT", Scatter: &ScatterPlot{XName: "VS.WEIGHT", YName: "VS.BMI", Total: 5, Groups: [2]string{"other sites", "site 07"},
+						Points: []ScatterPoint{{70, 24, false}, {90, 30, false}, {110, 36, false}, {180, 28, true}, {200, 31, true}}}},
+				}},
+		}}
 }
 
 func renderReport(t testing.TB, d *ReportData, o ReportOptions) []byte {
@@ -196,7 +242,9 @@ func TestReportCSPHashes(t *testing.T) {
 // each figure kind is drawn.
 func TestReportSections(t *testing.T) {
 	page := string(renderReport(t, reportFixture(t), ReportOptions{}))
-	for _, want := range []string{`id="overview"`, `id="variables"`, `id="associations"`, `id="proposals"`, `id="discrepancies"`,
+	for _, want := range []string{`id="overview"`, `id="variables"`, `id="associations"`, `id="proposals"`, `id="discrepancies"`, `id="sites"`,
+		`href="#sites"`, `id="site-06"`, `id="site-07"`, `href="#site-07"`, "Near-identical subjects, group 1: CF-06-008, CF-06-012, CF-06-014",
+		`aria-labelledby="s07-0-t s07-0-d"`, `aria-labelledby="s07-1-t s07-1-d"`, "Not evaluable", "2 of 2", "2 flagged pairs",
 		`id="rule-band-1"`, `id="rule-order-1"`, `id="rule-implies-1"`, `id="rule-visit_change-1"`, `id="rule-group_range-1"`, `id="rule-expr-1"`,
 		"&lt;checked &amp; escaped&gt;", "▲ flagged", "not tested: fewer than 3 subjects", "1 resolved", `data:image/svg&#43;xml;base64,`,
 		"2024-03-18", "SCREENING", "not evaluable: variable &#34;AGE&#34; is absent", "Candidates for review, not errors."} {
@@ -212,9 +260,61 @@ func TestReportSections(t *testing.T) {
 	}
 }
 
+// TestReportSitesAbsent: without signals, or with a note, the section says so and draws
+// no site card.
+func TestReportSitesAbsent(t *testing.T) {
+	for _, c := range []struct {
+		name  string
+		sites *ReportSites
+		want  string
+	}{
+		{"nil", nil, "Site and subject signals were not computed for this report."},
+		{"note", &ReportSites{Note: "Site signals need a site column <none>."}, "Site signals need a site column &lt;none&gt;."},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			d := reportFixture(t)
+			d.Sites = c.sites
+			page := string(renderReport(t, d, ReportOptions{}))
+			if !strings.Contains(page, `id="sites"`) || !strings.Contains(page, c.want) {
+				t.Errorf("Sites section lacks %q", c.want)
+			}
+			if strings.Contains(page, `class="sitecard"`) || strings.Contains(page, `id="sites-table"`) {
+				t.Error("Sites section without signals has a site table or card")
+			}
+		})
+	}
+}
+
+// TestShiftSVG: a shift plot draws two boxes per stratum with values and one cross per
+// flagged stratum with a site median.
+func TestShiftSVG(t *testing.T) {
+	nan := math.NaN()
+	p := &ShiftPlot{YName: "WEIGHT", Site: "07", Strata: []string{"V1", "V2", "V3", "V4"},
+		SiteQ:   [][3]float64{{70, 80, 90}, {nan, nan, nan}, {170, 180, 190}, {175, 185, 195}},
+		OthersQ: [][3]float64{{71, 81, 91}, {72, 82, 92}, {73, 83, 93}, {74, 84, 94}},
+		N:       []int{30, 0, 30, 30}, NOthers: []int{300, 300, 300, 300}, Flag: []bool{false, true, true, true}}
+	s := plotSVG(Plot{Shift: p}, "x")
+	// hand-derived: 4 others' boxes, 3 site boxes (V2 has no site values), the clip
+	// rectangle and 2 legend swatches
+	if got := strings.Count(s, "<rect "); got != 4+3+1+2 {
+		t.Errorf("%d rect elements, want 10 (7 boxes, the clip rectangle and 2 legend swatches)", got)
+	}
+	// flagged V3 and V4 have a site median; V2 does not; the legend has one cross too
+	if got := strings.Count(s, `stroke="`+plotFail+`" stroke-width="1.8"`); got != 2+1 {
+		t.Errorf("%d crosses, want 3 (2 flagged strata and the legend)", got)
+	}
+}
+
 // TestPlotSVGWellFormed: every figure is well-formed XML with a title and description.
 func TestPlotSVGWellFormed(t *testing.T) {
-	for _, p := range reportFixture(t).Proposals {
+	d := reportFixture(t)
+	ps := d.Proposals
+	for _, f := range d.Sites.Flagged {
+		for _, p := range f.Figures {
+			ps = append(ps, Proposal{Rule: &rules.Rule{ID: "site " + f.Site}, Plot: p})
+		}
+	}
+	for _, p := range ps {
 		s := plotSVG(p.Plot, "p0")
 		if p.Unevaluable != "" {
 			if s != "" {

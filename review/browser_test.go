@@ -176,7 +176,7 @@ func TestBrowserReview(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	d, err := Build(ctx, Input{Study: st, RuleSet: rs, IncludeProposed: true, Now: fixedNow, ToolVersion: "test", MaxPoints: 200}) // fewer points: a smaller DOM for the protocol to track
+	d, err := Build(ctx, Input{Study: st, RuleSet: rs, IncludeProposed: true, Now: fixedNow, ToolVersion: "test", MaxPoints: 200, Signals: true}) // fewer points: a smaller DOM for the protocol to track
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -292,7 +292,7 @@ func TestBrowserReport(t *testing.T) {
 	ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
 	defer cancel()
 	bctx, problems := browser(t, ctx)
-	_, page := demoReport(t, Input{IncludeProposed: true})
+	_, page := demoReport(t, Input{IncludeProposed: true, Signals: true})
 	file := filepath.Join(t.TempDir(), "report.html")
 	if err := os.WriteFile(file, page, 0o644); err != nil {
 		t.Fatal(err)
@@ -303,14 +303,22 @@ func TestBrowserReport(t *testing.T) {
 	images := run(t, bctx, "images", chromedp.Evaluate[int](`document.images.length`))
 	plots := run(t, bctx, "plots", chromedp.Evaluate[int](`document.querySelectorAll("svg.plot").length`))
 	cards := run(t, bctx, "cards", chromedp.Evaluate[int](`document.querySelectorAll("article.card").length`))
-	shot(t, bctx, t.TempDir(), "report-top-1280.png")
+	siteCards := run(t, bctx, "site cards", chromedp.Evaluate[int](`document.querySelectorAll("#sites article.sitecard").length`))
+	sitePlots := run(t, bctx, "site plots", chromedp.Evaluate[int](`Array.from(document.querySelectorAll("#sites svg.plot")).filter(s => s.getBoundingClientRect().width > 0).length`))
+	shots := t.TempDir()
+	shot(t, bctx, shots, "report-top-1280.png")
+	do(t, bctx, "scroll to site 07", chromedp.ScrollIntoView(css("#site-07")))
+	shot(t, bctx, shots, "report-site-07.png")
+	if siteCards != 2 || sitePlots == 0 {
+		t.Errorf("Sites section: %d site cards with %d visible plots, want 2 cards (sites 06 and 07) with plots", siteCards, sitePlots)
+	}
 	do(t, bctx, "sort and filter",
 		chromedp.Click(css(`#vars-0 thead th:nth-child(4) button`)),
 		chromedp.SendKeys(css(`input.filter[data-target="vars-0"]`), "VS."),
 	)
 	sortState := run(t, bctx, "sort state", chromedp.AttributeValue(css(`#vars-0 thead th:nth-child(4)`), "aria-sort")).Value
 	countText := run(t, bctx, "filter count", chromedp.Text(css(`[data-count-for="vars-0"]`)))
-	want := []string{"overview", "variables", "associations", "proposals", "discrepancies"}
+	want := []string{"overview", "variables", "associations", "proposals", "discrepancies", "sites"}
 	if fmt.Sprint(sections) != fmt.Sprint(want) {
 		t.Errorf("visible sections %v, want %v", sections, want)
 	}

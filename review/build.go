@@ -4,8 +4,10 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"path/filepath"
 	"sort"
+	"strings"
 	"sync"
 	"time"
 
@@ -15,6 +17,7 @@ import (
 	"github.com/crossform/crossform/render"
 	"github.com/crossform/crossform/rules"
 	"github.com/crossform/crossform/rules/check"
+	"github.com/crossform/crossform/signals"
 )
 
 // Cautions are the statements every report and review page opens with
@@ -60,6 +63,12 @@ type Input struct {
 	Examples int
 	// Workers bounds the goroutines of the association engine and the checker.
 	Workers int
+	// Signals computes the site and subject signals of package signals for the Sites
+	// section (site relationship and distribution tests, near-identical subjects,
+	// quality scores counting the checker's findings) when the study is an SDTM folder
+	// (subject and visit level) or a single table with one row per subject; otherwise
+	// the section says why it is empty.
+	Signals bool
 }
 
 // Build computes the report for in: each level's table is shaped once, profiled, its
@@ -118,6 +127,18 @@ func Build(ctx context.Context, in Input) (*render.ReportData, error) {
 		return nil, err
 	}
 	d.Discrepancies = disc
+	if in.Signals {
+		var checks []signals.CheckRecord
+		if disc != nil {
+			checks = CheckRecords(disc.Result)
+		}
+		if d.Sites, err = siteSignals(ctx, in, tables, checks); err != nil {
+			return nil, err
+		}
+		if disc != nil && d.Sites.Note == "" {
+			d.Sites.Scored = fmt.Sprintf("the %d discrepancies listed in this report", len(disc.Result.Findings))
+		}
+	}
 	return d, nil
 }
 
@@ -336,4 +357,266 @@ func discrepancies(ctx context.Context, in Input, tables *tableCache) (*render.R
 		d.Classes, d.Resolved, d.Previous = &c.Counts, c.Resolved, in.PreviousPath
 	}
 	return d, nil
+}
+
+// CheckRecords turns the checker's findings into the quality-score input of package
+// signals: one record per finding and variable the finding is about.
+func CheckRecords(res *check.Result) []signals.CheckRecord {
+	var out []signals.CheckRecord
+	for _, f := range res.Findings {
+		for _, v := range f.Vars {
+			out = append(out, signals.CheckRecord{Site: f.Site, Subject: f.Subject, Variable: v})
+		}
+	}
+	return out
+}
+
+const (
+	maxSiteFigures = 4  // figures per flagged site
+	maxGroupShown  = 8  // subjects of a near-identical group shown
+	maxGroupVars   = 15 // agreeing variables of a group shown
+)
+
+// signalTables returns the subject-level and visit-level tables of the study for package
+// signals, or a note saying why there are none.
+func signalTables(s *dataset.Study, tables *tableCache) (subject, visit *dataset.Table, note string) {
+	if s.IsSDTM() {
+		var err error
+		if subject, err = tables.get(dataset.LevelSubject); err != nil {
+			return nil, nil, "Site and subject signals were not computed: subject level: " + err.Error()
+		}
+		if visit, err = tables.get(dataset.LevelVisit); err != nil {
+			return nil, nil, "Site and subject signals were not computed: visit level: " + err.Error()
+		}
+		return subject, visit, ""
+	}
+	if len(s.Tables) != 1 {
+		return nil, nil, fmt.Sprintf("Site and subject signals need an SDTM folder or a single table with one row per subject; this study has %d tables.", len(s.Tables))
+	}
+	t, err := tables.get(dataset.LevelTable)
+	if err != nil {
+		return nil, nil, "Site and subject signals were not computed: " + err.Error()
+	}
+	if t.Site == "" {
+		return nil, nil, fmt.Sprintf("Site and subject signals need a site column; table %q has none (name it with --site).", t.Name)
+	}
+	if len(t.Keys) > 0 {
+		if c := t.Col(t.Keys[0]); c != nil {
+			seen := make(map[string]bool, t.NRows)
+			for i := range t.NRows {
+				k := c.String(i)
+				if seen[k] {
+					return nil, nil, fmt.Sprintf("Site and subject signals need one row per subject; table %q has more than one row for %s %q.", t.Name, t.Keys[0], k)
+				}
+				seen[k] = true
+			}
+		}
+	}
+	return t, nil, ""
+}
+
+// siteSignals runs package signals on the study and lays its results out for the Sites
+// section: one row per site (flagged first), and for each flagged site its flagged tests,
+// a figure per flagged variable or pair, and its groups of near-identical subjects.
+func siteSignals(ctx context.Context, in Input, tables *tableCache, checks []signals.CheckRecord) (*render.ReportSites, error) {
+	subject, visit, note := signalTables(in.Study, tables)
+	if note != "" {
+		return &render.ReportSites{Note: note}, nil
+	}
+	rep, err := signals.Run(ctx, subject, visit, signals.Options{Checks: checks, Workers: in.Workers})
+	if err != nil {
+		if ctx.Err() != nil {
+			return nil, ctx.Err()
+		}
+		return &render.ReportSites{Note: "Site and subject signals could not be computed: " + err.Error()}, nil
+	}
+	out := &render.ReportSites{Subjects: rep.Subjects, Profile: len(rep.Profile), MinSiteN: signals.DefaultMinSiteN, Components: signals.Components}
+	scores := map[string]signals.Score{}
+	for _, sc := range rep.Scores {
+		if sc.Unit == signals.UnitSite {
+			scores[sc.ID] = sc
+		}
+	}
+	for _, ss := range rep.SiteSignals {
+		row := render.SiteRow{SiteSignal: ss, Score: math.NaN()}
+		if sc, ok := scores[ss.Site]; ok {
+			row.Score, row.Rank, row.Components = sc.Total, sc.Rank, sc.Components
+		}
+		out.Rows = append(out.Rows, row)
+	}
+	sort.SliceStable(out.Rows, func(a, b int) bool { return out.Rows[a].Flagged && !out.Rows[b].Flagged })
+	byName := map[string]*dataset.Table{}
+	for _, t := range []*dataset.Table{subject, visit} {
+		if t != nil {
+			byName[signalTableName(t)] = t
+		}
+	}
+	maxPts := in.MaxPoints
+	if maxPts <= 0 {
+		maxPts = 1500
+	}
+	for _, row := range out.Rows {
+		if row.Flagged {
+			out.Flagged = append(out.Flagged, flaggedSite(rep, row.Site, byName, subject, maxPts))
+		}
+	}
+	return out, nil
+}
+
+// signalTableName is the name package signals gives a table in its results: its level,
+// else its name.
+func signalTableName(t *dataset.Table) string {
+	if t.Level != "" {
+		return t.Level
+	}
+	return t.Name
+}
+
+// flaggedSite collects why site is flagged.
+func flaggedSite(rep *signals.Report, site string, byName map[string]*dataset.Table, subject *dataset.Table, maxPts int) render.FlaggedSite {
+	f := render.FlaggedSite{Site: site}
+	figures := 0
+	drawn := map[string]bool{}
+	draw := func(key string, mk func() render.Plot) {
+		if drawn[key] {
+			return
+		}
+		drawn[key] = true
+		if figures >= maxSiteFigures {
+			f.NotDrawn++
+			return
+		}
+		if p := mk(); p.Shift != nil || p.Scatter != nil {
+			f.Figures = append(f.Figures, p)
+			figures++
+		} else {
+			f.NotDrawn++
+		}
+	}
+	for _, x := range rep.Shifts {
+		if !x.Flag || x.Site != site {
+			continue
+		}
+		t := byName[x.Table]
+		f.Tests = append(f.Tests, render.SiteTest{Kind: "distribution", Table: x.Table, Vars: x.Var, Stratum: stratumLabel(t, x.Stratum),
+			N: x.N, NOthers: x.NOthers, Site: x.Median, Others: x.OthersMedian, Ratio: x.Ratio, Effect: x.Effect, Q: x.Q})
+		if t != nil {
+			draw("shift|"+x.Table+"|"+x.Var, func() render.Plot { return shiftPlot(t, x.Var, site, rep.Shifts) })
+		}
+	}
+	for _, x := range rep.Relations {
+		if !x.Flag || x.Site != site {
+			continue
+		}
+		f.Tests = append(f.Tests, render.SiteTest{Kind: "relationship", Table: x.Table, Vars: x.X + " ~ " + x.Y,
+			N: x.N, NOthers: x.NOthers, Site: x.Rho, Others: x.RhoOthers, Ratio: math.NaN(), Effect: math.NaN(), Q: x.Q})
+		if t := byName[x.Table]; t != nil {
+			draw("rel|"+x.Table+"|"+x.X+"|"+x.Y, func() render.Plot { return relationPlot(t, x, maxPts) })
+		}
+	}
+	if rep.Duplicates != nil {
+		for _, g := range rep.Duplicates.Groups {
+			at := false
+			for _, r := range g.Rows {
+				at = at || subject.SiteOf(r) == site
+			}
+			if at {
+				f.Groups = append(f.Groups, nearGroup(rep, g, subject))
+			}
+		}
+	}
+	return f
+}
+
+// stratumLabel turns a stratum of package signals ("VISITNUM=4") into words, with the
+// visit's label when t has one: "visit 4 (WEEK 4)".
+func stratumLabel(t *dataset.Table, stratum string) string {
+	v, ok := strings.CutPrefix(stratum, "VISITNUM=")
+	if !ok {
+		return stratum
+	}
+	if t != nil {
+		if lbl := visitLabels(t)[v]; lbl != "" && lbl != v {
+			return "visit " + v + " (" + lbl + ")"
+		}
+	}
+	return "visit " + v
+}
+
+// visitLabels maps each VISITNUM of t (as its display string) to the first VISIT label
+// recorded with it.
+func visitLabels(t *dataset.Table) map[string]string {
+	out := map[string]string{}
+	vn, lbl := t.Col("VISITNUM"), t.Col("VISIT")
+	if vn == nil || lbl == nil {
+		return out
+	}
+	for i := range t.NRows {
+		if vn.Missing(i) || lbl.Missing(i) {
+			continue
+		}
+		if k := vn.String(i); out[k] == "" {
+			out[k] = lbl.String(i)
+		}
+	}
+	return out
+}
+
+// nearGroup lays out one group of near-identical subjects: its subjects, its pairs, and
+// the subjects' values of the variables that agree in any pair, least likely by chance
+// first.
+func nearGroup(rep *signals.Report, g signals.DuplicateGroup, subject *dataset.Table) render.NearGroup {
+	ng := render.NearGroup{ID: g.ID}
+	rows := g.Rows
+	if len(rows) > maxGroupShown {
+		ng.Hidden, rows = len(rows)-maxGroupShown, rows[:maxGroupShown]
+	}
+	for _, r := range rows {
+		ng.Subjects = append(ng.Subjects, rep.SubjectIDs[r])
+	}
+	type agg struct {
+		chance float64
+		pairs  int
+	}
+	vars := map[string]*agg{}
+	var names []string
+	for _, p := range rep.Duplicates.Pairs {
+		if p.Group != g.ID {
+			continue
+		}
+		ng.Pairs = append(ng.Pairs, render.NearPair{A: rep.SubjectIDs[p.A], B: rep.SubjectIDs[p.B], Dist: p.Dist, Z: p.Z, P: p.P,
+			Compared: p.Compared, Agree: len(p.Agree)})
+		for _, a := range p.Agree {
+			v := vars[a.Var]
+			if v == nil {
+				v = &agg{chance: a.Chance}
+				vars[a.Var] = v
+				names = append(names, a.Var)
+			}
+			v.pairs++
+		}
+	}
+	sort.SliceStable(names, func(a, b int) bool {
+		va, vb := vars[names[a]], vars[names[b]]
+		if va.chance != vb.chance {
+			return va.chance < vb.chance
+		}
+		return names[a] < names[b]
+	})
+	if len(names) > maxGroupVars {
+		names = names[:maxGroupVars]
+	}
+	for _, n := range names {
+		nv := render.NearVar{Name: n, Chance: vars[n].chance, Pairs: vars[n].pairs}
+		c := subject.Col(n)
+		for _, r := range rows {
+			val := ""
+			if c != nil && !c.Missing(r) {
+				val = c.String(r)
+			}
+			nv.Values = append(nv.Values, val)
+		}
+		ng.Vars = append(ng.Vars, nv)
+	}
+	return ng
 }

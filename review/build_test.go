@@ -41,7 +41,7 @@ func demoReport(t testing.TB, in Input) (*render.ReportData, []byte) {
 // TestDemoReport: the report of the demo study is small, self-contained, has every
 // section, and draws the figure each rule kind calls for.
 func TestDemoReport(t *testing.T) {
-	d, page := demoReport(t, Input{IncludeProposed: true})
+	d, page := demoReport(t, Input{IncludeProposed: true, Signals: true})
 	if len(page) >= 5<<20 {
 		t.Errorf("report is %d bytes, want < 5 MB", len(page))
 	}
@@ -55,8 +55,8 @@ func TestDemoReport(t *testing.T) {
 		t.Errorf("%d http(s) URLs besides the SVG namespace", n-bytes.Count(page, []byte(`xmlns="http://www.w3.org/2000/svg"`)))
 	}
 	s := string(page)
-	for _, want := range []string{`id="overview"`, `id="variables"`, `id="associations"`, `id="proposals"`, `id="discrepancies"`,
-		`id="vars-0"`, `id="vars-1"`, `id="by-rule"`, `id="by-site"`, `id="listing"`, "Read this first", "CFX-201"} {
+	for _, want := range []string{`id="overview"`, `id="variables"`, `id="associations"`, `id="proposals"`, `id="discrepancies"`, `id="sites"`,
+		`id="sites-table"`, `id="vars-0"`, `id="vars-1"`, `id="by-rule"`, `id="by-site"`, `id="listing"`, "Read this first", "CFX-201"} {
 		if !strings.Contains(s, want) {
 			t.Errorf("report lacks %q", want)
 		}
@@ -103,8 +103,8 @@ func levels(d *render.ReportData) []string {
 
 // TestDemoReportDeterministic: two builds of the same inputs give the same bytes.
 func TestDemoReportDeterministic(t *testing.T) {
-	da, a := demoReport(t, Input{IncludeProposed: true, Workers: 1})
-	db, b := demoReport(t, Input{IncludeProposed: true, Workers: 4})
+	da, a := demoReport(t, Input{IncludeProposed: true, Signals: true, Workers: 1})
+	db, b := demoReport(t, Input{IncludeProposed: true, Signals: true, Workers: 4})
 	// Each call reads its own copy of the rule set: only the copies' paths may differ.
 	a = bytes.ReplaceAll(a, []byte(da.RuleSet.Path), []byte("RULES"))
 	b = bytes.ReplaceAll(b, []byte(db.RuleSet.Path), []byte("RULES"))
@@ -145,7 +145,7 @@ func BenchmarkBuildDemo(b *testing.B) {
 	}
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := Build(context.Background(), Input{Study: st, RuleSet: rs, Now: fixedNow, IncludeProposed: true}); err != nil {
+		if _, err := Build(context.Background(), Input{Study: st, RuleSet: rs, Now: fixedNow, IncludeProposed: true, Signals: true}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -1,7 +1,8 @@
 // Package review owns the reviewer's view of a study and a rule set: Build computes
 // everything the HTML report shows (render.ReportData: profiles, associations and
 // clusters per level, each rule's verdicts, figure data and example records, the
-// checker's discrepancies and their classes against a previous listing), and Server
+// checker's discrepancies and their classes against a previous listing, and with
+// Input.Signals the site and subject signals of package signals), and Server
 // serves that report on the local machine with forms to accept, reject or retire each
 // rule, writing every decision to the YAML rule set at once through rules.Decide and
 // RuleSet.Save.
@@ -18,5 +19,9 @@
 // band (Theil–Sen line ± k robust scales, as the rule defines it), order rules with the
 // limit line, implies and presence rules as a contingency table with the cells the rule
 // forbids, visit_change rules as per-subject trajectories, group_range and cutoff rules
-// as strips per level with their limits.
+// as strips per level with their limits. A flagged site's figures show why: a
+// distribution shift as the variable's quartiles per visit at the site beside the other
+// sites' (type 7 quantiles, as R's quantile computes them), a relationship as a scatter of
+// the pair with the site's records over the other sites'; near-identical subjects as a
+// table of their values on the variables that agree.
 package review

@@ -14,6 +14,7 @@ import (
 	"github.com/crossform/crossform/dataset"
 	"github.com/crossform/crossform/render"
 	"github.com/crossform/crossform/rules"
+	"github.com/crossform/crossform/signals"
 )
 
 const (
@@ -680,4 +681,171 @@ func limitsOf(r *rules.Rule) map[string][2]float64 {
 		out[othersKey] = [2]float64{cut, math.NaN()}
 	}
 	return out
+}
+
+// maxSiteOthers and maxSitePoints bound the points of a site's relationship figure drawn
+// from the other sites and from the site.
+const (
+	maxSiteOthers = 700
+	maxSitePoints = 400
+)
+
+// quartiles returns the 25th, 50th and 75th percentiles of x by R's default definition
+// (quantile type 7, Hyndman & Fan 1996, Am. Stat. 50:361–365): with x sorted and
+// h = (n − 1)·p, Q(p) = x[⌊h⌋] + (h − ⌊h⌋)·(x[⌊h⌋+1] − x[⌊h⌋]), 0-based. It sorts x in
+// place and returns NaNs when x is empty.
+func quartiles(x []float64) [3]float64 {
+	if len(x) == 0 {
+		return [3]float64{math.NaN(), math.NaN(), math.NaN()}
+	}
+	sort.Float64s(x)
+	var q [3]float64
+	for k, p := range []float64{0.25, 0.5, 0.75} {
+		h := float64(len(x)-1) * p
+		lo := int(math.Floor(h))
+		q[k] = x[lo]
+		if lo+1 < len(x) {
+			q[k] += (h - float64(lo)) * (x[lo+1] - x[lo])
+		}
+	}
+	return q
+}
+
+// shiftPlot compares variable v of t at site with the other sites pooled, per visit when
+// t is keyed by VISITNUM (the strata of signals.Shifts), else in one stratum; the strata
+// whose test in shifts is flagged for the site are marked.
+func shiftPlot(t *dataset.Table, v, site string, shifts []signals.Shift) render.Plot {
+	c := t.Col(v)
+	if c == nil || c.Storage != dataset.StoreFloat {
+		return render.Plot{}
+	}
+	vn := t.Col("VISITNUM")
+	strata := t.IsKey("VISITNUM") && vn != nil && vn.Storage == dataset.StoreFloat
+	type vals struct{ site, others []float64 }
+	by := map[float64]*vals{}
+	var keys []float64
+	for i := range t.NRows {
+		y := c.Floats[i]
+		if math.IsNaN(y) {
+			continue
+		}
+		k := 0.0
+		if strata {
+			if k = vn.Floats[i]; math.IsNaN(k) {
+				continue
+			}
+		}
+		b := by[k]
+		if b == nil {
+			b = &vals{}
+			by[k] = b
+			keys = append(keys, k)
+		}
+		if t.SiteOf(i) == site {
+			b.site = append(b.site, y)
+		} else {
+			b.others = append(b.others, y)
+		}
+	}
+	if len(keys) == 0 {
+		return render.Plot{}
+	}
+	sort.Float64s(keys)
+	flag := map[string]bool{}
+	var worst *signals.Shift
+	for k := range shifts {
+		x := &shifts[k]
+		if x.Flag && x.Site == site && x.Var == v && x.Table == signalTableName(t) {
+			flag[x.Stratum] = true
+			if worst == nil || math.Abs(math.Log(x.Ratio)) > math.Abs(math.Log(worst.Ratio)) {
+				worst = x
+			}
+		}
+	}
+	labels := visitLabels(t)
+	sp := &render.ShiftPlot{YName: v, Site: site}
+	for _, k := range keys {
+		b := by[k]
+		stratum, label := "", "all subjects"
+		if strata {
+			num := dataset.FormatFloat(k)
+			stratum, label = "VISITNUM="+num, num
+			if l := labels[num]; l != "" {
+				label = l
+			}
+		}
+		sp.Strata = append(sp.Strata, label)
+		sp.SiteQ = append(sp.SiteQ, quartiles(b.site))
+		sp.OthersQ = append(sp.OthersQ, quartiles(b.others))
+		sp.N, sp.NOthers = append(sp.N, len(b.site)), append(sp.NOthers, len(b.others))
+		sp.Flag = append(sp.Flag, flag[stratum])
+	}
+	where := "by visit"
+	if !strata {
+		where = "over all subjects"
+	}
+	cap := fmt.Sprintf("%s at site %s (blue, right) and at the other sites pooled (grey, left), %s: boxes span the 25th to 75th percentiles, bars mark the medians", v, site, where)
+	if worst != nil {
+		in := ""
+		if worst.Stratum != "" {
+			in = " at " + stratumLabel(t, worst.Stratum)
+		}
+		cap += fmt.Sprintf("; crosses mark the flagged distribution tests. Largest shift%s: median %s against %s, ratio %s.",
+			in, fmtG(worst.Median), fmtG(worst.OthersMedian), fmtRatio(worst.Ratio))
+	} else {
+		cap += "."
+	}
+	return render.Plot{Shift: sp, Caption: cap}
+}
+
+// relationPlot draws the pair of a relationship test: the site's records (dark, on top,
+// up to maxSitePoints) over an even sample of the other sites' (grey, up to
+// maxSiteOthers, and never more than maxPts), with each group's Spearman ρ in the caption.
+func relationPlot(t *dataset.Table, r signals.Relation, maxPts int) render.Plot {
+	cx, cy := t.Col(r.X), t.Col(r.Y)
+	if cx == nil || cy == nil || cx.Storage != dataset.StoreFloat || cy.Storage != dataset.StoreFloat {
+		return render.Plot{}
+	}
+	var at, others []render.ScatterPoint
+	for i := range t.NRows {
+		x, y := cx.Floats[i], cy.Floats[i]
+		if math.IsNaN(x) || math.IsNaN(y) {
+			continue
+		}
+		if t.SiteOf(i) == r.Site {
+			at = append(at, render.ScatterPoint{X: x, Y: y, Fail: true})
+		} else {
+			others = append(others, render.ScatterPoint{X: x, Y: y})
+		}
+	}
+	if len(at) == 0 {
+		return render.Plot{}
+	}
+	s := &render.ScatterPlot{XName: r.X, YName: r.Y, Total: len(at) + len(others), Groups: [2]string{"other sites", "site " + r.Site}}
+	s.Points = append(sample(others, min(maxSiteOthers, maxPts)), sample(at, maxSitePoints)...)
+	unit := "records"
+	if len(t.Keys) > 1 {
+		unit = "subjects"
+	}
+	cap := fmt.Sprintf("%s against %s, %s level: site %s (dark) Spearman ρ = %s over %d %s; other sites (grey) ρ = %s over %d %s; q = %s.",
+		r.Y, r.X, signalTableName(t), r.Site, strconv.FormatFloat(r.Rho, 'f', 2, 64), r.N, unit,
+		strconv.FormatFloat(r.RhoOthers, 'f', 2, 64), r.NOthers, unit, fmtQ(r.Q))
+	if len(s.Points) < s.Total {
+		cap += fmt.Sprintf(" %d of %d records drawn.", len(s.Points), s.Total)
+	}
+	return render.Plot{Scatter: s, Caption: cap}
+}
+
+func fmtRatio(x float64) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "undefined"
+	}
+	return strconv.FormatFloat(x, 'f', 2, 64)
+}
+
+func fmtQ(q float64) string {
+	if q < 1e-4 {
+		return "< 0.0001"
+	}
+	return strconv.FormatFloat(q, 'f', 4, 64)
 }

@@ -15,9 +15,9 @@ import (
 	"github.com/crossform/crossform/dataset/demostudy"
 	"github.com/crossform/crossform/demo"
 	"github.com/crossform/crossform/render"
+	"github.com/crossform/crossform/review"
 	"github.com/crossform/crossform/rules"
 	"github.com/crossform/crossform/rules/check"
-	"github.com/crossform/crossform/signals"
 )
 
 // demoConfidence is the least evidence confidence of a proposal that the demo
@@ -146,7 +146,7 @@ func demoRun(o *demoOptions) error {
 	sum.flagged, sum.records = demo.FalseAlarmRate(res1)
 
 	stage("looking for site and subject signals → signals/")
-	rep, err := signalsCompute(o.ctx, s1, checkRecords(res1))
+	rep, err := signalsCompute(o.ctx, s1, review.CheckRecords(res1))
 	if err != nil {
 		return err
 	}
@@ -215,17 +215,6 @@ func demoCheck(o *demoOptions, dir, ruleSet, listing, previous, n string) (*chec
 		return nil, err
 	}
 	return co.result, nil
-}
-
-// checkRecords turns findings into the signals package's quality-score input.
-func checkRecords(res *check.Result) []signals.CheckRecord {
-	var out []signals.CheckRecord
-	for _, f := range res.Findings {
-		for _, v := range f.Vars {
-			out = append(out, signals.CheckRecord{Site: f.Site, Subject: f.Subject, Variable: v})
-		}
-	}
-	return out
 }
 
 func demoPrintSummary(w io.Writer, s *demoSummary, verbose bool) error {

@@ -19,6 +19,7 @@ type reviewInputFlags struct {
 	rules        string
 	previous     string
 	acceptedOnly bool
+	noSignals    bool
 	workers      int
 }
 
@@ -27,6 +28,7 @@ func (f *reviewInputFlags) register(cmd *cobra.Command) {
 	fl.StringVar(&f.rules, "rules", "", "rule set `FILE` (YAML) whose rules are shown (required)")
 	fl.StringVar(&f.previous, "previous", "", "previous listing `FILE` (.csv or .json) to class discrepancies as new, persisting or resolved")
 	fl.BoolVar(&f.acceptedOnly, "accepted-only", false, "run only accepted rules for the discrepancy section (default: proposed rules too, as a preview)")
+	fl.BoolVar(&f.noSignals, "no-signals", false, "leave out the Sites section (site tests, near-identical subjects, quality scores), which takes a few seconds on a large study")
 	fl.IntVar(&f.workers, "workers", 0, "worker goroutines (default: GOMAXPROCS); results do not depend on it")
 }
 
@@ -48,7 +50,7 @@ func buildReport(ctx context.Context, g *globalOptions, d *dataFlags, path strin
 	}
 	o, _ := d.options()
 	in := review.Input{Study: s, RuleSet: rs, Levels: splitList(d.level), IncludeProposed: !f.acceptedOnly,
-		ToolVersion: toolVersion(), Now: now, Workers: f.workers}
+		ToolVersion: toolVersion(), Now: now, Workers: f.workers, Signals: !f.noSignals}
 	in.Shape.Infer = o.CSV.Infer
 	if f.previous != "" {
 		prev, err := check.ReadListing(f.previous)
@@ -95,7 +97,9 @@ filterable), their associations (ordered heatmap, cluster graphs, strong
 dependencies across forms), one card per rule with its evidence, a figure that
 shows why and example flagged records, and the discrepancies the rules raise
 by rule and by site (sites that stand out are flagged), classed new,
-persisting or resolved when --previous names an earlier listing.
+persisting or resolved when --previous names an earlier listing, and a Sites
+section (site relationship and distribution tests, near-identical subjects,
+quality scores, with a figure per flagged site; --no-signals leaves it out).
 
 The file carries its styles, script and figures inline and loads nothing from
 a network, so it can be opened from disk or sent by email. It contains study

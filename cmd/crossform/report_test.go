@@ -24,8 +24,13 @@ func TestReportFlags(t *testing.T) {
 	if err := cmd.Execute(); err != nil {
 		t.Fatal(err)
 	}
-	if got.path != "study/" || got.in.rules != "r.yaml" || got.out != "rep.html" || got.in.previous != "l.csv" || !got.in.acceptedOnly || got.data.level != "visit,subject" || got.title != "T" {
+	if got.path != "study/" || got.in.rules != "r.yaml" || got.out != "rep.html" || got.in.previous != "l.csv" || !got.in.acceptedOnly || got.data.level != "visit,subject" || got.title != "T" || got.in.noSignals {
 		t.Errorf("options %+v", got)
+	}
+	cmd = newReportCmd(&globalOptions{}, func(o *reportOptions) error { got = o; return nil })
+	cmd.SetArgs([]string{"study/", "--rules", "r.yaml", "--no-signals"})
+	if err := cmd.Execute(); err != nil || !got.in.noSignals {
+		t.Errorf("--no-signals: err %v, noSignals %v; want it set", err, got.in.noSignals)
 	}
 	cmd = newReportCmd(&globalOptions{}, func(o *reportOptions) error { return nil })
 	cmd.SetArgs([]string{"study/"})
@@ -37,11 +42,11 @@ func TestReportFlags(t *testing.T) {
 func TestReviewFlags(t *testing.T) {
 	var got *reviewOptions
 	cmd := newReviewCmd(&globalOptions{}, func(o *reviewOptions) error { got = o; return nil })
-	cmd.SetArgs([]string{"study/", "--rules", "r.yaml", "--port", "8765", "--addr", "localhost"})
+	cmd.SetArgs([]string{"study/", "--rules", "r.yaml", "--port", "8765", "--addr", "localhost", "--no-signals"})
 	if err := cmd.Execute(); err != nil {
 		t.Fatal(err)
 	}
-	if got.in.rules != "r.yaml" || got.port != 8765 || got.addr != "localhost" {
+	if got.in.rules != "r.yaml" || got.port != 8765 || got.addr != "localhost" || !got.in.noSignals {
 		t.Errorf("options %+v", got)
 	}
 }
@@ -91,6 +96,11 @@ func TestReportEndToEnd(t *testing.T) {
 	}
 	if len(b) >= 5<<20 || !bytes.HasPrefix(b, []byte("<!DOCTYPE html>")) || !bytes.Contains(b, []byte("Consent is on or before each visit.")) {
 		t.Errorf("report of %d bytes does not look right", len(b))
+	}
+	for _, want := range []string{`id="sites-table"`, `id="site-06"`, `id="site-07"`} {
+		if !bytes.Contains(b, []byte(want)) {
+			t.Errorf("report lacks %s: the Sites section is on by default", want)
+		}
 	}
 	_, stderr, code = runCLI(t, "report", study, "--rules", filepath.Join(t.TempDir(), "missing.yaml"))
 	if code != exitError || !strings.Contains(stderr, "missing.yaml") {
