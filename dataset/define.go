@@ -165,6 +165,9 @@ func ReadDefineFile(path string) (*Define, error) {
 func ReadDefine(name string, r io.Reader) (*Define, error) {
 	dec := xml.NewDecoder(r)
 	dec.Strict = true
+	dec.CharsetReader = func(charset string, _ io.Reader) (io.Reader, error) {
+		return nil, fmt.Errorf("encoding %q is not supported: save the Define-XML file as UTF-8", charset)
+	}
 	d := &Define{File: name, Items: map[string]*DefineItem{}, CodeLists: map[string]*DefineCodeList{}}
 	perr := func(err error) error {
 		var se *xml.SyntaxError

@@ -91,7 +91,7 @@ func ReadDatasetJSON(name string, r io.Reader, o DatasetJSONOptions) (*Table, er
 		defer zr.Close()
 		r = zr
 	}
-	d := &dsReader{name: name, o: o, dec: json.NewDecoder(bufio.NewReaderSize(r, 64<<10))}
+	d := &dsReader{name: name, o: o, dec: json.NewDecoder(bufio.NewReaderSize(&utf8Reader{r: r, name: name}, 64<<10))}
 	d.dec.UseNumber()
 	return d.read()
 }

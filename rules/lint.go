@@ -46,8 +46,10 @@ var knownTopKeys = map[string]bool{"schema": true, "rules": true, "study": true,
 // Lint checks a rule set: unknown keys (warnings), missing or duplicate ids,
 // unknown kinds, missing level or variables, malformed parameters, expressions
 // that do not compile, and, for each table given, variables of rules at that
-// table's level (Table.Level) that the table lacks. Issues come in file
-// order, each with its YAML line.
+// table's level (Table.Level) that the table lacks; and warns of rules no
+// record can pass (contradictory order rules, expr rules whose when and
+// require exclude each other; lint_more.go). Issues come in file order, each
+// with its YAML line.
 func Lint(rs *RuleSet, tables ...*dataset.Table) []LintIssue {
 	var out []LintIssue
 	add := func(n *yaml.Node, id string, warn bool, format string, a ...any) {
@@ -143,6 +145,7 @@ func Lint(rs *RuleSet, tables ...*dataset.Table) []LintIssue {
 			}
 		}
 	}
+	out = append(out, lintContradictions(rs)...)
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Line < out[j].Line })
 	return out
 }

@@ -130,6 +130,10 @@ func Parse(name string, b []byte) (*RuleSet, error) {
 		return nil, perr(root, "rule set is not a mapping (want keys schema and rules)")
 	}
 	rs.doc = &doc
+	if err := noDuplicateKeys(root); err != nil {
+		err.File = name
+		return nil, err
+	}
 	var schemaNode *yaml.Node
 	for i := 0; i+1 < len(root.Content); i += 2 {
 		k, v := root.Content[i], root.Content[i+1]
@@ -212,6 +216,9 @@ func decodeRule(n *yaml.Node) (*Rule, error) {
 	if n.Kind != yaml.MappingNode {
 		return nil, pos(n, "rule is not a mapping (want keys id, kind, level, variables, …)")
 	}
+	if err := noDuplicateKeys(n); err != nil {
+		return nil, err
+	}
 	r := &Rule{Line: n.Line, node: n, Origin: OriginHand}
 	str := func(k, v *yaml.Node) (string, error) {
 		if v.Kind != yaml.ScalarNode {
@@ -273,7 +280,7 @@ func decodeRule(n *yaml.Node) (*Rule, error) {
 				return nil, pos(v, "params: not a mapping")
 			}
 			if err := v.Decode(&r.Params); err != nil {
-				return nil, pos(v, "params: %v", err)
+				return nil, pos(v, "params: %s", strings.ReplaceAll(cleanYAMLErr(err), "\n", "; "))
 			}
 		case "evidence":
 			r.Evidence, err = decodeEvidence(v)
@@ -295,6 +302,21 @@ func decodeRule(n *yaml.Node) (*Rule, error) {
 		r.Vars, r.varsImplicit = exprVarsOf(r), true
 	}
 	return r, nil
+}
+
+// noDuplicateKeys reports the second occurrence of a key in mapping m. yaml.v3
+// keeps both in a node tree, and the last would silently win: a rule written
+// "status: rejected" and later "status: accepted" must not load as accepted.
+func noDuplicateKeys(m *yaml.Node) *ParseError {
+	first := map[string]int{}
+	for i := 0; i+1 < len(m.Content); i += 2 {
+		k := m.Content[i]
+		if line, dup := first[k.Value]; dup {
+			return &ParseError{Line: k.Line, Column: k.Column, Err: fmt.Errorf("key %q given twice (first at line %d)", k.Value, line)}
+		}
+		first[k.Value] = k.Line
+	}
+	return nil
 }
 
 func decodeEvidence(v *yaml.Node) (*Evidence, error) {
@@ -564,6 +586,7 @@ func (rs *RuleSet) Bytes() ([]byte, error) {
 	var buf bytes.Buffer
 	enc := yaml.NewEncoder(&buf)
 	enc.SetIndent(2)
+	defer encodeFixups(rs.doc)()
 	if err := enc.Encode(rs.doc); err != nil {
 		return nil, err
 	}
@@ -573,32 +596,86 @@ func (rs *RuleSet) Bytes() ([]byte, error) {
 	return buf.Bytes(), nil
 }
 
+// encodeFixups works around two yaml.v3 encoder faults that would make a
+// saved rule set unreadable, and returns a function that undoes its changes
+// to the tree (both found by FuzzParse):
+//
+//   - a mapping key's line comment followed by an empty sequence or mapping
+//     is written after the key, with "[]" or "{}" on the next line, which does
+//     not parse ("rules: #c" then "[]"): the comment is moved onto the value
+//     for the encoding;
+//   - an empty null inside a flow collection ("{id: a, history}") is written
+//     as a quoted empty string and reads back as a string, not null ("history: not a
+//     list"): it is written as null.
+func encodeFixups(n *yaml.Node) (restore func()) {
+	var undo []func()
+	var walk func(n *yaml.Node, flow bool)
+	walk = func(n *yaml.Node, flow bool) {
+		flow = flow || n.Style&yaml.FlowStyle != 0
+		if n.Kind == yaml.MappingNode {
+			for i := 0; i+1 < len(n.Content); i += 2 {
+				k, v := n.Content[i], n.Content[i+1]
+				if k.LineComment != "" && v.LineComment == "" && len(v.Content) == 0 &&
+					(v.Kind == yaml.SequenceNode || v.Kind == yaml.MappingNode) {
+					v.LineComment, k.LineComment = k.LineComment, ""
+					undo = append(undo, func() { k.LineComment, v.LineComment = v.LineComment, "" })
+				}
+			}
+		}
+		if flow && n.Kind == yaml.ScalarNode && n.Tag == "!!null" && n.Value == "" {
+			n.Value = "null"
+			undo = append(undo, func() { n.Value = "" })
+		}
+		for _, c := range n.Content {
+			walk(c, flow)
+		}
+	}
+	walk(n, false)
+	return func() {
+		for _, f := range undo {
+			f()
+		}
+	}
+}
+
 // Save writes the rule set to rs.Path atomically: a temporary file in the
 // same directory is written, synced and renamed over the old file, and the
 // directory is synced. If the file on disk is not the one read (its SHA-256
 // differs from Hash, or it appeared or vanished since), Save writes nothing
-// and returns an error wrapping ErrConflict.
+// and returns an error wrapping ErrConflict. Saves of one path are serialised
+// across processes by an advisory lock on ".NAME.lock" beside the file, so
+// the check and the rename are one step; a crash leaves at most a
+// ".NAME.tmp*" file, never a partial rule set.
 func (rs *RuleSet) Save() error {
 	b, err := rs.Bytes()
 	if err != nil {
 		return fmt.Errorf("saving %s: %w", rs.Path, err)
 	}
-	cur, err := os.ReadFile(rs.Path)
-	switch {
-	case errors.Is(err, fs.ErrNotExist):
-		if rs.hash != "" {
-			return fmt.Errorf("saving %s: %w (the file was removed; reload and merge again)", rs.Path, ErrConflict)
+	// The conflict check and the rename happen under one lock
+	// (savelock.go): without it two processes could both pass the check and
+	// the second rename would silently drop the first one's decisions.
+	err = withSaveLock(rs.Path, func() error {
+		cur, err := os.ReadFile(rs.Path)
+		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			if rs.hash != "" {
+				return fmt.Errorf("saving %s: %w (the file was removed; reload and merge again)", rs.Path, ErrConflict)
+			}
+		case err != nil:
+			return fmt.Errorf("saving %s: %w", rs.Path, err)
+		default:
+			sum := sha256.Sum256(cur)
+			if h := hex.EncodeToString(sum[:]); h != rs.hash {
+				return fmt.Errorf("saving %s: %w (reload the file and repeat the change)", rs.Path, ErrConflict)
+			}
 		}
-	case err != nil:
-		return fmt.Errorf("saving %s: %w", rs.Path, err)
-	default:
-		sum := sha256.Sum256(cur)
-		if h := hex.EncodeToString(sum[:]); h != rs.hash {
-			return fmt.Errorf("saving %s: %w (reload the file and repeat the change)", rs.Path, ErrConflict)
+		if err := writeAtomic(rs.Path, b); err != nil {
+			return fmt.Errorf("saving %s: %w", rs.Path, err)
 		}
-	}
-	if err := writeAtomic(rs.Path, b); err != nil {
-		return fmt.Errorf("saving %s: %w", rs.Path, err)
+		return nil
+	})
+	if err != nil {
+		return err
 	}
 	sum := sha256.Sum256(b)
 	rs.hash, rs.raw = hex.EncodeToString(sum[:]), b
