@@ -303,3 +303,19 @@ func TestClusterLargeStudyPerClusterHeatmaps(t *testing.T) {
 		t.Errorf("no per-cluster heatmap: %v", err)
 	}
 }
+
+func TestProfileLevel(t *testing.T) {
+	dir := demoExtract(t)
+	stdout, errs, code := runCLI(t, "profile", dir, "--level", "visit", "--csv", "--quiet")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"VS.SYSBP", "LB.ALT", "DM.SEX", "SV.STDTC"} {
+		if !strings.Contains(stdout, ","+want+",") {
+			t.Errorf("visit-level profile lacks %s", want)
+		}
+	}
+	if _, errs, code := runCLI(t, "profile", dir, "--level", "nonsense"); code != exitError {
+		t.Errorf("--level nonsense: exit %d, stderr %q", code, errs)
+	}
+}

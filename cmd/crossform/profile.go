@@ -28,12 +28,14 @@ func newProfileCmd(g *globalOptions, runF func(*profileOptions) error) *cobra.Co
 		Long: `profile reads a data file, or a folder read as one study, and prints one
 row per variable: its inferred type and the rule that decided it, the number of
 values, the share missing, distinct levels, and min/median/max or the most
-frequent levels.
+frequent levels. For an SDTM folder, --level profiles the table as the analysis
+sees it (subject, visit, record:DOMAIN); without it every file is profiled as read.
 
 JSON output (--json): {"variables": [{"table", "name", "type", "why", "n",
 "missing", "rows", "distinct", "invalid", "min", "median", "max", "top":
 [{"level", "count"}], "unit", "label"}]}.`,
 		Example: `  crossform profile study/
+  crossform profile study/ --level visit --json
   crossform profile vitals.csv --keys SUBJ,VISIT --site CENTRE --json`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -58,6 +60,14 @@ func profileRun(o *profileOptions) error {
 	}
 	for _, w := range s.Warnings {
 		o.g.log.Warn(w)
+	}
+	if o.data.level != "" {
+		// Profile the study shaped at the level asked for, as the analysis sees it.
+		t, _, err := o.data.loadTable(o.path, o.g)
+		if err != nil {
+			return err
+		}
+		s = &dataset.Study{Path: o.path, Tables: []*dataset.Table{t}}
 	}
 	return writeOut(o.out, o.stdout, func(w io.Writer) error {
 		return writeProfile(w, s, o.json, o.csv)
