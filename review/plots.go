@@ -149,19 +149,7 @@ func sample(pts []render.ScatterPoint, n int) []render.ScatterPoint {
 	return out
 }
 
-func pnum(m map[string]any, k string) (float64, bool) {
-	switch x := m[k].(type) {
-	case float64:
-		return x, true
-	case int:
-		return float64(x), true
-	case int64:
-		return float64(x), true
-	case uint64:
-		return float64(x), true
-	}
-	return 0, false
-}
+func pnum(m map[string]any, k string) (float64, bool) { return rules.Number(m[k]) }
 
 func pbool(m map[string]any, k string) bool {
 	b, _ := m[k].(bool)

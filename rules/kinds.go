@@ -57,6 +57,10 @@ func leq(a, b float64) bool {
 
 // ---- parameter access ----
 
+// Number returns a rule parameter's numeric value as decoded from YAML
+// (float64, int, int64 or uint64); ok is false for anything else.
+func Number(v any) (float64, bool) { return num(v) }
+
 func num(v any) (float64, bool) {
 	switch x := v.(type) {
 	case float64:
